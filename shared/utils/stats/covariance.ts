@@ -1,0 +1,98 @@
+/**
+ * Covariance of the estimates, computed after (and separately from) the fit.
+ *
+ * With A = −H (observed information at b̂, weighted when there are weights) and the
+ * per-row scores s_i = w_i ℓ'_i x_i:
+ * - conventional: V = A^{-1}
+ * - hc0:          V = A^{-1} (Σ_i s_i s_i') A^{-1}
+ * - hc1:          V = N/(N−K) · HC0, i.e. standard errors scaled by sqrt(N/(N−K))
+ *                 (the OLS-style small-sample factor; statsmodels' discrete models return
+ *                 plain HC0 under the name HC1, so their numbers differ from ours by it)
+ * - cluster:      V = c · A^{-1} (Σ_g u_g u_g') A^{-1}, u_g = Σ_{i∈g} s_i,
+ *                 CR1 factor c = G/(G−1) · (N−1)/(N−K)
+ * N counts rows (not the sum of weights) and K the coefficients. With sampling weights
+ * the sandwich uses w_i² in the meat (pweights), which is the standard design-based
+ * variance; the conventional covariance then treats weights as frequencies and is not
+ * a valid design-based variance (a warning says so).
+ */
+import type { Design } from './design'
+import { EngineInputError } from './errors'
+import type { FitResult } from './fit'
+import { invertSpd, sandwich } from './linalg'
+import { getLink } from './links'
+import type { CovarianceType } from './types'
+
+export interface Covariance {
+  type: CovarianceType
+  /** Row-major k×k, or null when the information matrix is singular. */
+  V: Float64Array | null
+  factor: number
+  clusters: number | null
+}
+
+export function informationInverse(fit: FitResult, k: number): Float64Array | null {
+  const A = new Float64Array(k * k)
+  for (let i = 0; i < k * k; i++) A[i] = -fit.hessian[i]!
+  return invertSpd(A, k)
+}
+
+export function computeCovariance(design: Design, fit: FitResult, type: CovarianceType): Covariance {
+  const { n, k, X, y, w } = design
+  const bread = informationInverse(fit, k)
+  if (type === 'conventional') return { type, V: bread, factor: 1, clusters: null }
+  if (type !== 'hc0' && type !== 'hc1' && type !== 'cluster') {
+    throw new EngineInputError('invalid_spec', `unknown covariance type '${String(type)}'`)
+  }
+  if (type === 'cluster' && !design.cluster) {
+    throw new EngineInputError('invalid_spec', 'cluster-robust standard errors need a cluster variable')
+  }
+  const link = getLink(fit.link)
+  const b = fit.coef
+  const t = new Float64Array(3)
+  const meat = new Float64Array(k * k)
+  let G = 0
+  if (type === 'cluster') {
+    const cl = design.cluster!
+    G = design.clusterLabels.length
+    for (let i = 0; i < n; i++) G = Math.max(G, cl[i]! + 1)
+    const U = new Float64Array(G * k)
+    for (let i = 0; i < n; i++) {
+      const off = i * k
+      let eta = 0
+      for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
+      link.obsTerms(eta, y[i]!, t)
+      const s = (w ? w[i]! : 1) * t[1]!
+      const uo = cl[i]! * k
+      for (let j = 0; j < k; j++) U[uo + j]! += s * X[off + j]!
+    }
+    for (let g = 0; g < G; g++) {
+      const uo = g * k
+      for (let j = 0; j < k; j++) {
+        const uj = U[uo + j]!
+        if (uj === 0) continue
+        for (let m = 0; m <= j; m++) meat[j * k + m]! += uj * U[uo + m]!
+      }
+    }
+  } else {
+    for (let i = 0; i < n; i++) {
+      const off = i * k
+      let eta = 0
+      for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
+      link.obsTerms(eta, y[i]!, t)
+      const s = (w ? w[i]! : 1) * t[1]!
+      const s2 = s * s
+      for (let j = 0; j < k; j++) {
+        const a = s2 * X[off + j]!
+        for (let m = 0; m <= j; m++) meat[j * k + m]! += a * X[off + m]!
+      }
+    }
+  }
+  for (let j = 0; j < k; j++) for (let m = 0; m < j; m++) meat[m * k + j] = meat[j * k + m]!
+  let factor = 1
+  if (type === 'hc1') factor = n / (n - k)
+  if (type === 'cluster') factor = (G / (G - 1)) * ((n - 1) / (n - k))
+  if (!bread) return { type, V: null, factor, clusters: type === 'cluster' ? G : null }
+  const V = sandwich(bread, meat, k)
+  if (factor !== 1) for (let i = 0; i < k * k; i++) V[i]! *= factor
+  return { type, V, factor, clusters: type === 'cluster' ? G : null }
+}

@@ -1,0 +1,131 @@
+/**
+ * The fused data pass: log-likelihood, score and observed Hessian in ONE sweep over the rows.
+ *
+ * ℓ(b) = Σ_i w_i [ y_i log F(x_i'b) + (1 − y_i) log(1 − F(x_i'b)) ]
+ * g(b) = Σ_i w_i ℓ'_i x_i,              ℓ'_i = dℓ_i/dη at η = x_i'b
+ * H(b) = Σ_i w_i ℓ''_i x_i x_i'         (observed, not expected, information: −H)
+ *
+ * Why hand-written: for k ≈ 10 the Hessian update is 55–66 multiply-adds per row; a
+ * general matrix library would need an n×k weighted copy of X and a BLAS-style product
+ * per iteration, i.e. more memory traffic and allocation than this single loop. Two rows
+ * are processed per step so that each Hessian cell is loaded and stored half as often.
+ */
+import type { Design } from './design'
+import type { Link } from './links'
+
+export interface PassResult {
+  loglik: number
+  /** Score, length k. */
+  gradient: Float64Array
+  /** Hessian of ℓ (negative definite at a maximum), row-major k×k, full. */
+  hessian: Float64Array
+  /** Rows whose observed outcome is predicted with probability > 1 − 1e-10. */
+  perfectlyPredicted: number
+}
+
+/** Linear index x_i'b for every row. */
+export function linearPredictor(design: Design, b: ArrayLike<number>): Float64Array {
+  const { n, k, X } = design
+  const eta = new Float64Array(n)
+  for (let i = 0; i < n; i++) {
+    const off = i * k
+    let s = 0
+    for (let j = 0; j < k; j++) s += X[off + j]! * b[j]!
+    eta[i] = s
+  }
+  return eta
+}
+
+/** Log-likelihood only (used while halving steps is not worth a full pass; kept for tests). */
+export function logLikelihood(design: Design, link: Link, b: ArrayLike<number>): number {
+  const { n, k, X, y, w } = design
+  const t = new Float64Array(3)
+  let ll = 0
+  for (let i = 0; i < n; i++) {
+    const off = i * k
+    let eta = 0
+    for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
+    link.obsTerms(eta, y[i]!, t)
+    ll += w ? w[i]! * t[0]! : t[0]!
+  }
+  return ll
+}
+
+/** One fused pass: ℓ, g and H at b. */
+export function evaluate(design: Design, link: Link, b: ArrayLike<number>): PassResult {
+  const { n, k, X, y, w } = design
+  const g = new Float64Array(k)
+  const H = new Float64Array(k * k)
+  const t = new Float64Array(3)
+  const bb = Float64Array.from(b as ArrayLike<number>)
+  let ll = 0
+  let perfect = 0
+  let i = 0
+  for (; i + 1 < n; i += 2) {
+    const o1 = i * k
+    const o2 = o1 + k
+    let e1 = 0
+    let e2 = 0
+    for (let j = 0; j < k; j++) {
+      e1 += X[o1 + j]! * bb[j]!
+      e2 += X[o2 + j]! * bb[j]!
+    }
+    link.obsTerms(e1, y[i]!, t)
+    const w1 = w ? w[i]! : 1
+    const l1 = t[0]!
+    const s1 = w1 * t[1]!
+    const h1 = w1 * t[2]!
+    link.obsTerms(e2, y[i + 1]!, t)
+    const w2 = w ? w[i + 1]! : 1
+    const l2 = t[0]!
+    const s2 = w2 * t[1]!
+    const h2 = w2 * t[2]!
+    ll += w1 * l1 + w2 * l2
+    if (l1 > -1e-10) perfect++
+    if (l2 > -1e-10) perfect++
+    for (let j = 0; j < k; j++) {
+      const x1 = X[o1 + j]!
+      const x2 = X[o2 + j]!
+      g[j]! += s1 * x1 + s2 * x2
+      const a1 = h1 * x1
+      const a2 = h2 * x2
+      const base = j * k
+      for (let m = 0; m <= j; m++) H[base + m]! += a1 * X[o1 + m]! + a2 * X[o2 + m]!
+    }
+  }
+  for (; i < n; i++) {
+    const o1 = i * k
+    let e1 = 0
+    for (let j = 0; j < k; j++) e1 += X[o1 + j]! * bb[j]!
+    link.obsTerms(e1, y[i]!, t)
+    const w1 = w ? w[i]! : 1
+    ll += w1 * t[0]!
+    if (t[0]! > -1e-10) perfect++
+    const s1 = w1 * t[1]!
+    const h1 = w1 * t[2]!
+    for (let j = 0; j < k; j++) {
+      const x1 = X[o1 + j]!
+      g[j]! += s1 * x1
+      const a1 = h1 * x1
+      const base = j * k
+      for (let m = 0; m <= j; m++) H[base + m]! += a1 * X[o1 + m]!
+    }
+  }
+  for (let j = 0; j < k; j++) for (let m = 0; m < j; m++) H[m * k + j] = H[j * k + m]!
+  return { loglik: ll, gradient: g, hessian: H, perfectlyPredicted: perfect }
+}
+
+/** Per-row score factors ℓ'_i (without weights or x): the "generalised residuals". */
+export function scoreFactors(design: Design, link: Link, b: ArrayLike<number>): Float64Array {
+  const { n, k, X, y } = design
+  const t = new Float64Array(3)
+  const s = new Float64Array(n)
+  for (let i = 0; i < n; i++) {
+    const off = i * k
+    let eta = 0
+    for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
+    link.obsTerms(eta, y[i]!, t)
+    s[i] = t[1]!
+  }
+  return s
+}

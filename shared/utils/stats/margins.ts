@@ -1,0 +1,233 @@
+/**
+ * Marginal effects with delta-method standard errors.
+ *
+ * Per covariate (not per column), on the probability scale P = F(x'b):
+ * - numeric: derivative dP/dx per unit of the RAW covariate, with the chain rule through
+ *   its transform, square and interactions: dP/dx = f(η) · D, D = Σ_l b_l ∂x_l/∂x
+ *   (∂/∂x of log x is 1/x; of v² is 2v·v'; of v·z is z·v').
+ * - yes/no: discrete change F(η | 1) − F(η | 0).
+ * - categorical: per level, F(η | level) − F(η | reference).
+ * Kinds: AME averages the row effects (weighted when weighted); MEM evaluates them at the
+ * "mean farm" (numeric covariates at the mean of their model-scale value, e.g. mean log x
+ * for a log covariate; yes/no and category indicators at their sample shares; squares and
+ * interactions recomputed from those values); 'at' holds chosen covariates at given values
+ * and the rest at their means.
+ * Delta method: Var(m̂) = J V J' with J = ∂m/∂b', for whatever covariance V is passed
+ * (by default the one the model was summarised with). Row effects treat the rows as fixed.
+ */
+import { emptyProfile, fillRow, readProfile, transformValue, type CovariatePlan, type Design, type Profile } from './design'
+import { EngineInputError } from './errors'
+import type { Covariance } from './covariance'
+import type { FitResult } from './fit'
+import { quadForm } from './linalg'
+import { getLink, type Link } from './links'
+import { makeEstimate } from './summary'
+import type { MarginalEffect, Margins, MarginsKind } from './types'
+import { toLevel, toYesNo } from './values'
+
+/** One effect to compute: a derivative w.r.t. a numeric covariate or a discrete change. */
+interface EffectPlan {
+  covariate: number
+  kind: 'derivative' | 'discrete'
+  /** discrete: the level index to switch to (−1 = reference / 0), yes/no uses 0/1. */
+  level: number
+  label: string
+  levelName?: string
+  referenceName?: string
+}
+
+function planEffects(design: Design): EffectPlan[] {
+  const out: EffectPlan[] = []
+  design.plan.covariates.forEach((c, ci) => {
+    if (c.dropped) return
+    if (c.type === 'numeric') out.push({ covariate: ci, kind: 'derivative', level: -1, label: c.label })
+    else if (c.type === 'yesno') out.push({ covariate: ci, kind: 'discrete', level: 0, label: `${c.label}: yes vs no`, levelName: 'yes', referenceName: 'no' })
+    else {
+      c.nonReferenceLevels.forEach((lvl, li) => {
+        if (c.dummyCols[li]! < 0) return
+        out.push({ covariate: ci, kind: 'discrete', level: li, label: `${c.label}: ${lvl} vs ${c.reference!}`, levelName: lvl, referenceName: c.reference! })
+      })
+    }
+  })
+  return out
+}
+
+/**
+ * ∂x/∂(raw covariate) for numeric covariate ci at a profile, written into dx (zeroed
+ * first). Returns nothing; columns untouched by the covariate stay 0.
+ */
+function derivativeRow(design: Design, ci: number, profile: Profile, dx: Float64Array): void {
+  const plan = design.plan
+  const c = plan.covariates[ci]!
+  dx.fill(0)
+  const v = profile[ci]![0]!
+  const tPrime = c.transform === 'log' ? Math.exp(-v) : 1
+  if (c.mainCol >= 0) dx[c.mainCol] = tPrime
+  if (c.squareCol >= 0) dx[c.squareCol] = 2 * v * tPrime
+  for (const it of plan.interactions) {
+    if (it.a !== ci && it.b !== ci) continue
+    const other = it.a === ci ? it.b : it.a
+    const ov = profile[other]!
+    for (const ic of it.cols) {
+      if (ic.col < 0) continue
+      const ol = it.a === ci ? ic.bLevel : ic.aLevel
+      dx[ic.col]! += ov[ol < 0 ? 0 : ol]! * tPrime
+    }
+  }
+}
+
+/** Sets covariate ci in a profile to a discrete value: yes/no 0/1 or categorical level index (−1 = reference). */
+function setDiscrete(c: CovariatePlan, slot: Float64Array, level: number, yes: boolean): void {
+  if (c.type === 'yesno') slot[0] = yes ? 1 : 0
+  else {
+    slot.fill(0)
+    if (level >= 0) slot[level] = 1
+  }
+}
+
+function dot(a: Float64Array, b: Float64Array, k: number): number {
+  let s = 0
+  for (let j = 0; j < k; j++) s += a[j]! * b[j]!
+  return s
+}
+
+/** Effect values and Jacobians at a set of rows (all design rows) or at one profile. */
+function accumulate(
+  design: Design, link: Link, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null
+): { values: Float64Array, jac: Float64Array[] } {
+  const { n, k, X, w, plan } = design
+  const m = effects.length
+  const values = new Float64Array(m)
+  const jac = effects.map(() => new Float64Array(k))
+  const prof = emptyProfile(plan)
+  const alt = emptyProfile(plan)
+  const x = new Float64Array(k)
+  const x1 = new Float64Array(k)
+  const x0 = new Float64Array(k)
+  const dx = new Float64Array(k)
+  let W = 0
+  const rows = profileAt ? 1 : n
+  for (let i = 0; i < rows; i++) {
+    let wi = 1
+    if (profileAt) {
+      for (let c = 0; c < prof.length; c++) prof[c]!.set(profileAt[c]!)
+      x.fill(0)
+      fillRow(plan, prof, x)
+    } else {
+      wi = w ? w[i]! : 1
+      for (let j = 0; j < k; j++) x[j] = X[i * k + j]!
+      readProfile(plan, X, i * k, prof)
+    }
+    W += wi
+    const eta = dot(x, b, k)
+    const f = link.pdf(eta)
+    const fp = link.dpdf(eta)
+    for (let e = 0; e < m; e++) {
+      const ef = effects[e]!
+      const J = jac[e]!
+      if (ef.kind === 'derivative') {
+        derivativeRow(design, ef.covariate, prof, dx)
+        const D = dot(dx, b, k)
+        values[e]! += wi * f * D
+        const a = wi * fp * D
+        const c = wi * f
+        for (let j = 0; j < k; j++) J[j]! += a * x[j]! + c * dx[j]!
+      } else {
+        const cp = plan.covariates[ef.covariate]!
+        for (let c = 0; c < prof.length; c++) alt[c]!.set(prof[c]!)
+        setDiscrete(cp, alt[ef.covariate]!, ef.level, true)
+        x1.set(x)
+        fillRow(plan, alt, x1)
+        setDiscrete(cp, alt[ef.covariate]!, -1, false)
+        x0.set(x)
+        fillRow(plan, alt, x0)
+        const e1 = dot(x1, b, k)
+        const e0 = dot(x0, b, k)
+        values[e]! += wi * (link.cdf(e1) - link.cdf(e0))
+        const f1 = wi * link.pdf(e1)
+        const f0 = wi * link.pdf(e0)
+        for (let j = 0; j < k; j++) J[j]! += f1 * x1[j]! - f0 * x0[j]!
+      }
+    }
+  }
+  for (let e = 0; e < m; e++) {
+    values[e]! /= W
+    for (let j = 0; j < k; j++) jac[e]![j]! /= W
+  }
+  return { values, jac }
+}
+
+/** Weighted means of the profile values (the "mean farm"). */
+export function meanProfile(design: Design): Profile {
+  const { n, k, X, w, plan } = design
+  const sum = emptyProfile(plan)
+  const prof = emptyProfile(plan)
+  let W = 0
+  for (let i = 0; i < n; i++) {
+    const wi = w ? w[i]! : 1
+    W += wi
+    readProfile(plan, X, i * k, prof)
+    for (let c = 0; c < prof.length; c++) {
+      const s = sum[c]!
+      const p = prof[c]!
+      for (let l = 0; l < p.length; l++) s[l]! += wi * p[l]!
+    }
+  }
+  for (const s of sum) for (let l = 0; l < s.length; l++) s[l]! /= W
+  return sum
+}
+
+/** Overrides profile entries with chosen raw values (numeric value, yes/no, or level name). */
+export function applyValues(design: Design, profile: Profile, values: Record<string, number | string>): void {
+  const plan = design.plan
+  for (const [name, raw] of Object.entries(values)) {
+    const ci = plan.covariates.findIndex(c => c.name === name)
+    if (ci < 0) throw new EngineInputError('unknown_variable', `'${name}' is not a covariate of the model`, [name])
+    const c = plan.covariates[ci]!
+    const slot = profile[ci]!
+    if (c.type === 'numeric') {
+      const x = typeof raw === 'number' ? raw : Number(raw)
+      if (!Number.isFinite(x)) throw new EngineInputError('invalid_value', `value for '${name}' must be a finite number`, [name])
+      slot[0] = transformValue(c, x, -1)
+    } else if (c.type === 'yesno') {
+      const d = toYesNo(raw)
+      if (d === null) throw new EngineInputError('invalid_value', `value for '${name}' must be yes/no or 0/1`, [name])
+      slot[0] = d
+    } else {
+      const lvl = toLevel(raw)
+      if (lvl !== c.reference && !c.nonReferenceLevels.includes(lvl)) {
+        throw new EngineInputError('invalid_value', `'${name}' has no level '${lvl}'`, [name])
+      }
+      setDiscrete(c, slot, c.nonReferenceLevels.indexOf(lvl), true)
+    }
+  }
+}
+
+export interface MarginsOptions {
+  kind?: MarginsKind
+  at?: Record<string, number | string>
+}
+
+export function marginalEffects(design: Design, fit: FitResult, cov: Covariance, options: MarginsOptions = {}): Margins {
+  const kind = options.kind ?? 'ame'
+  const link = getLink(fit.link)
+  const effects = planEffects(design)
+  let profile: Profile | null = null
+  if (kind !== 'ame') {
+    profile = meanProfile(design)
+    if (kind === 'at') {
+      if (!options.at) throw new EngineInputError('invalid_spec', "margins 'at' needs covariate values")
+      applyValues(design, profile, options.at)
+    }
+  }
+  const { values, jac } = accumulate(design, link, fit.coef, effects, profile)
+  const k = design.k
+  const out: MarginalEffect[] = effects.map((ef, e) => ({
+    covariate: design.plan.covariates[ef.covariate]!.name,
+    label: ef.label,
+    kind: ef.kind,
+    ...(ef.levelName !== undefined ? { level: ef.levelName, reference: ef.referenceName! } : {}),
+    ...makeEstimate(values[e]!, cov.V ? quadForm(cov.V, jac[e]!, k) : null)
+  }))
+  return { kind, covariance: cov.type, ...(kind === 'at' ? { at: { ...options.at } } : {}), effects: out }
+}

@@ -1,0 +1,112 @@
+/**
+ * rows → design → fit → summary → margins (→ village predictions and scenarios when a
+ * cluster is given), returned as ONE plain JSON-serialisable object. Deterministic: the
+ * same input gives the same numbers; only `timings` differ between runs.
+ * Throws `EngineInputError` when the model cannot be fitted (see errors.ts).
+ */
+import { classificationTable, hosmerLemeshow, rocCurve } from './classification'
+import { computeCovariance, type Covariance } from './covariance'
+import { buildDesign } from './design'
+import { EngineInputError, type EngineWarning } from './errors'
+import { fitBinary } from './fit'
+import { marginalEffects } from './margins'
+import { predictProbabilities, scenario, villageMeans } from './predict'
+import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
+import type { CovarianceSummary, ModelResults, ModelSpec } from './types'
+import type { DataInput } from './values'
+
+export const ENGINE_VERSION = '1.0.0'
+
+/** Clock that works in browsers, workers and Node. */
+function now(): number {
+  return typeof performance !== 'undefined' ? performance.now() : Date.now()
+}
+
+export function summariseCovariance(cov: Covariance, terms: string[]): CovarianceSummary {
+  const k = terms.length
+  const matrix: Array<Array<number | null>> = []
+  for (let i = 0; i < k; i++) {
+    const row: Array<number | null> = []
+    for (let j = 0; j < k; j++) row.push(cov.V ? finiteOrNull(cov.V[i * k + j]!) : null)
+    matrix.push(row)
+  }
+  return { type: cov.type, factor: cov.factor, clusters: cov.clusters, terms, matrix }
+}
+
+export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
+  const t0 = now()
+  const design = buildDesign(data, spec)
+  const t1 = now()
+  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations })
+  const t2 = now()
+  const seType = spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
+  const cov = computeCovariance(design, fit, seType)
+  const coefficients = coefficientTable(design, fit, cov)
+  const fitStats = fitStatistics(design, fit)
+  const p = predictProbabilities(design, fit)
+  let cutoff = 0.5
+  if (spec.cutoff === 'sample-rate') cutoff = (fitStats.weightSum > 0 ? sumWeighted(design.y, design.w) / fitStats.weightSum : 0.5)
+  else if (spec.cutoff !== undefined) {
+    if (!(spec.cutoff > 0 && spec.cutoff < 1)) throw new EngineInputError('invalid_spec', 'cut-off must be between 0 and 1')
+    cutoff = spec.cutoff
+  }
+  const classification = classificationTable(p, design.y, design.w, cutoff)
+  const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101)
+  const hl = hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10)
+  const t3 = now()
+  const marginsKind = spec.margins ?? 'ame'
+  const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt })
+  const t4 = now()
+  const villages = design.cluster ? villageMeans(design, fit, cov) : null
+  const scenarios = (spec.scenarios ?? []).map(s => scenario(design, fit, cov, s))
+  const t5 = now()
+
+  const warnings: EngineWarning[] = [...design.warnings, ...fit.warnings]
+  if (design.w && seType === 'conventional') {
+    warnings.push({
+      code: 'weights_not_likelihood',
+      message: 'with sampling weights the conventional standard errors treat weights as frequencies; use robust or cluster standard errors'
+    })
+  }
+  if (seType === 'cluster' && cov.clusters !== null && cov.clusters < 30) {
+    warnings.push({ code: 'few_clusters', message: `only ${cov.clusters} clusters: cluster-robust standard errors may be too small` })
+  }
+  const minGroup = Math.min(...hl.groups.map(g => g.expected))
+  if (minGroup < 5) {
+    warnings.push({ code: 'small_hl_groups', message: 'some Hosmer–Lemeshow groups expect fewer than 5 adopters; the test is approximate' })
+  }
+  return {
+    engineVersion: ENGINE_VERSION,
+    link: fit.link,
+    outcome: { name: design.plan.outcome, label: design.plan.outcomeLabel },
+    weights: spec.weights ?? null,
+    cluster: spec.cluster ?? null,
+    rows: design.rows,
+    converged: fit.converged,
+    iterations: fit.iterations,
+    coefficients,
+    covariance: summariseCovariance(cov, design.plan.terms.map(t => t.name)),
+    fit: fitStats,
+    classification,
+    roc,
+    hosmerLemeshow: hl,
+    margins,
+    villages,
+    scenarios,
+    warnings,
+    timings: {
+      designMs: t1 - t0,
+      fitMs: t2 - t1,
+      inferenceMs: t3 - t2,
+      marginsMs: t4 - t3,
+      predictionsMs: t5 - t4,
+      totalMs: t5 - t0
+    }
+  }
+}
+
+function sumWeighted(y: Float64Array, w: Float64Array | null): number {
+  let s = 0
+  for (let i = 0; i < y.length; i++) s += (w ? w[i]! : 1) * y[i]!
+  return s
+}

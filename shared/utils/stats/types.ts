@@ -1,0 +1,229 @@
+/**
+ * Public types of the estimation engine: what a model specification looks like and the
+ * plain, JSON-serialisable results object that `runModel` returns.
+ *
+ * Results contain only plain numbers, strings, booleans, arrays and objects (no typed
+ * arrays, no Map, no undefined values in arrays). A quantity that cannot be computed is
+ * `null` rather than NaN, so JSON.stringify/parse round-trips the object unchanged.
+ */
+import type { EngineWarning } from './errors'
+import type { LinkName } from './links'
+
+export type CovariateType = 'numeric' | 'yesno' | 'categorical'
+
+/** One explanatory variable as the coordinator chose it. */
+export interface CovariateSpec {
+  /** Column name in the data. */
+  name: string
+  /** Display label, e.g. 'distance to agro-dealer (km)'. Defaults to `name`. */
+  label?: string
+  /** Default 'numeric'. */
+  type?: CovariateType
+  /** Numeric only: use log(x) (x must be > 0) or x − mean(x) (mean over the rows used). */
+  transform?: 'log' | 'centre'
+  /** Numeric only: also include the square of the (transformed) value. */
+  square?: boolean
+  /** Categorical only: reference level. Default: the first level (see `levels`). */
+  reference?: string
+  /** Categorical only: level order. Default: the levels found, sorted. */
+  levels?: string[]
+}
+
+export type CovarianceType = 'conventional' | 'hc0' | 'hc1' | 'cluster'
+
+export type MarginsKind = 'ame' | 'mem' | 'at'
+
+/** A counterfactual: set a covariate to a value, or shift it, for everyone or some villages. */
+export interface ScenarioSpec {
+  name: string
+  covariate: string
+  /** Set the covariate to this value (number, 0/1 or yes/no, or a categorical level). */
+  set?: number | string
+  /** Numeric covariates only: add this amount to the raw value. */
+  shift?: number
+  /** Apply only to rows in these villages (cluster labels). Default: all rows. */
+  villages?: string[]
+}
+
+export interface ModelSpec {
+  outcome: string
+  outcomeLabel?: string
+  covariates: CovariateSpec[]
+  /** Two-way interactions, by covariate name. */
+  interactions?: Array<[string, string]>
+  /** Default 'probit'. */
+  link?: LinkName
+  /** Sampling (probability) weights column. */
+  weights?: string
+  /** Cluster id column (the village). */
+  cluster?: string
+  /** Covariance for the summary and the margins. Default 'cluster' when `cluster` is set, else 'conventional'. */
+  se?: CovarianceType
+  /** Default 'ame'. 'at' needs `marginsAt`. 'none' skips margins. */
+  margins?: MarginsKind | 'none'
+  /** Covariate values for margins 'at'; unspecified covariates are held at their means. */
+  marginsAt?: Record<string, number | string>
+  /** Classification cut-off; default 0.5. 'sample-rate' uses the (weighted) share of ones. */
+  cutoff?: number | 'sample-rate'
+  /** Hosmer–Lemeshow groups; default 10. */
+  hlGroups?: number
+  scenarios?: ScenarioSpec[]
+  maxIterations?: number
+  /** Maximum number of ROC points kept in the results (AUC always uses all rows). Default 101. */
+  rocPoints?: number
+}
+
+/** One Newton–Raphson iteration. */
+export interface IterationRecord {
+  iter: number
+  loglik: number
+  /** Euclidean norm of the score at this iterate. */
+  gradientNorm: number
+  /** Step length actually taken from this iterate (1 = full Newton step; 0 = stopped here). */
+  stepSize: number
+}
+
+export interface Estimate {
+  estimate: number
+  se: number | null
+  z: number | null
+  p: number | null
+  ciLow: number | null
+  ciHigh: number | null
+}
+
+export interface CoefficientRow extends Estimate {
+  term: string
+  label: string
+}
+
+export interface FitStatistics {
+  n: number
+  k: number
+  /** Sum of weights (equals n without weights). */
+  weightSum: number
+  loglik: number
+  loglikNull: number
+  lrChi2: number
+  lrDf: number
+  lrP: number
+  mcfaddenR2: number
+  aic: number
+  bic: number
+}
+
+export interface ClassificationTable {
+  cutoff: number
+  truePositive: number
+  falsePositive: number
+  trueNegative: number
+  falseNegative: number
+  sensitivity: number | null
+  specificity: number | null
+  shareCorrect: number
+}
+
+export interface RocPoint {
+  threshold: number
+  falsePositiveRate: number
+  truePositiveRate: number
+}
+
+export interface HosmerLemeshowGroup {
+  group: number
+  n: number
+  minPredicted: number
+  maxPredicted: number
+  observed: number
+  expected: number
+  observedRate: number
+  meanPredicted: number
+}
+
+export interface HosmerLemeshow {
+  statistic: number
+  df: number
+  p: number
+  groups: HosmerLemeshowGroup[]
+}
+
+export interface MarginalEffect extends Estimate {
+  covariate: string
+  /** Human-readable, e.g. 'soil type: clay vs loam'. */
+  label: string
+  /** 'derivative' = dP/dx per unit of the raw covariate; 'discrete' = P(level) − P(reference). */
+  kind: 'derivative' | 'discrete'
+  level?: string
+  reference?: string
+}
+
+export interface Margins {
+  kind: MarginsKind
+  covariance: CovarianceType
+  at?: Record<string, number | string>
+  effects: MarginalEffect[]
+}
+
+export interface VillagePrediction extends Estimate {
+  village: string
+  n: number
+  observedRate: number
+}
+
+export interface ScenarioResult {
+  name: string
+  covariate: string
+  description: string
+  rowsChanged: number
+  overall: Estimate & { baseline: number, scenario: number }
+  villages: Array<Estimate & { village: string, baseline: number, scenario: number }>
+}
+
+export interface DroppedRows {
+  totalRows: number
+  used: number
+  dropped: number
+  /** Rows dropped because this variable was missing (a row is counted once, under its first missing variable in spec order). */
+  byVariable: Array<{ variable: string, label: string, count: number }>
+}
+
+export interface CovarianceSummary {
+  type: CovarianceType
+  /** Scalar factor applied to the sandwich (1 for conventional/HC0). */
+  factor: number
+  clusters: number | null
+  terms: string[]
+  matrix: Array<Array<number | null>>
+}
+
+export interface Timings {
+  designMs: number
+  fitMs: number
+  inferenceMs: number
+  marginsMs: number
+  predictionsMs: number
+  totalMs: number
+}
+
+export interface ModelResults {
+  engineVersion: string
+  link: LinkName
+  outcome: { name: string, label: string }
+  weights: string | null
+  cluster: string | null
+  rows: DroppedRows
+  converged: boolean
+  iterations: IterationRecord[]
+  coefficients: CoefficientRow[]
+  covariance: CovarianceSummary
+  fit: FitStatistics
+  classification: ClassificationTable
+  roc: { auc: number, points: RocPoint[] }
+  hosmerLemeshow: HosmerLemeshow | null
+  margins: Margins | null
+  villages: VillagePrediction[] | null
+  scenarios: ScenarioResult[]
+  warnings: EngineWarning[]
+  /** Wall-clock times; the only field that differs between two runs on the same input. */
+  timings: Timings
+}

@@ -1,0 +1,89 @@
+/**
+ * Reading raw cell values (from JSON rows, form data or CSV text) into model values.
+ * Missing means null, undefined, an empty string or the text 'NA'. Numbers must be finite.
+ */
+import { EngineInputError } from './errors'
+
+export type DataRows = ReadonlyArray<Readonly<Record<string, unknown>>>
+/** Column-oriented data: one array (plain or typed) per variable, all of the same length. */
+export type DataColumns = Readonly<Record<string, ArrayLike<unknown>>>
+export type DataInput = DataRows | DataColumns
+
+export interface DataAccessor {
+  nRows: number
+  has: (name: string) => boolean
+  column: (name: string) => (i: number) => unknown
+}
+
+/** Uniform access to row- or column-oriented input without copying it. */
+export function accessData(data: DataInput): DataAccessor {
+  if (Array.isArray(data)) {
+    const rows = data as DataRows
+    const names = new Set<string>()
+    for (const r of rows.slice(0, 1000)) for (const key of Object.keys(r)) names.add(key)
+    return {
+      nRows: rows.length,
+      has: name => names.has(name) || rows.some(r => Object.prototype.hasOwnProperty.call(r, name)),
+      column: name => (i: number) => rows[i]![name]
+    }
+  }
+  const cols = data as DataColumns
+  const keys = Object.keys(cols)
+  const n = keys.length ? cols[keys[0]!]!.length : 0
+  for (const key of keys) {
+    if (cols[key]!.length !== n) {
+      throw new EngineInputError('invalid_spec', `column '${key}' has ${cols[key]!.length} values, expected ${n}`, [key])
+    }
+  }
+  return {
+    nRows: n,
+    has: name => Object.prototype.hasOwnProperty.call(cols, name),
+    column: (name) => {
+      const col = cols[name]!
+      return (i: number) => col[i]
+    }
+  }
+}
+
+export function isMissing(v: unknown): boolean {
+  if (v === null || v === undefined) return true
+  if (typeof v === 'string') {
+    const s = v.trim()
+    return s === '' || s === 'NA'
+  }
+  return false
+}
+
+/** A finite number from a number, boolean or numeric string; throws otherwise. */
+export function toNumber(v: unknown, variable: string, row: number): number {
+  let x: number
+  if (typeof v === 'number') x = v
+  else if (typeof v === 'boolean') x = v ? 1 : 0
+  else if (typeof v === 'string') {
+    x = Number(v.trim())
+    if (Number.isNaN(x)) throw new EngineInputError('invalid_value', `'${variable}' has a non-numeric value '${v}' in row ${row + 1}`, [variable])
+  } else throw new EngineInputError('invalid_value', `'${variable}' has an unreadable value in row ${row + 1}`, [variable])
+  if (!Number.isFinite(x)) {
+    throw new EngineInputError('non_finite_input', `'${variable}' has a non-finite value (${String(x)}) in row ${row + 1}`, [variable])
+  }
+  return x
+}
+
+const YES = new Set(['yes', 'y', 'true', '1'])
+const NO = new Set(['no', 'n', 'false', '0'])
+
+/** 0/1 from 0/1, true/false or yes/no (any case); null when the value is none of these. */
+export function toYesNo(v: unknown): 0 | 1 | null {
+  if (typeof v === 'boolean') return v ? 1 : 0
+  if (typeof v === 'number') return v === 1 ? 1 : v === 0 ? 0 : null
+  if (typeof v === 'string') {
+    const s = v.trim().toLowerCase()
+    if (YES.has(s)) return 1
+    if (NO.has(s)) return 0
+  }
+  return null
+}
+
+export function toLevel(v: unknown): string {
+  return typeof v === 'string' ? v.trim() : String(v)
+}
