@@ -9,12 +9,13 @@
  *   - gradient: the Newton decrement g'(−H)^{-1}g < gradTol (default 1e-10; it is the
  *     predicted remaining gain in ℓ times two, so it does not grow with N), and
  *   - relative change: max_j |δ_j| / max(1, |b_j|) < relTol (default 1e-8).
- * Starting values: all slopes 0, intercept F^{-1}(weighted share of ones).
+ * Starting values: all slopes 0, intercept F^{-1}(weighted share of ones); for n ≥ 40 000
+ * these are first refined by Newton on a 5% systematic subsample (see `subsample`).
  */
 import { checkSeparation } from './separation'
 import type { Design } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
-import { evaluate } from './likelihood'
+import { evaluate, type PassResult } from './likelihood'
 import { choleskyInPlace, choleskySolve } from './linalg'
 import { getLink, type Link, type LinkName } from './links'
 import type { IterationRecord } from './types'
@@ -27,6 +28,8 @@ export interface FitOptions {
   start?: ArrayLike<number>
   /** Skip the single-column separation check (it costs one pass). */
   skipSeparationCheck?: boolean
+  /** Start from a Newton fit on a 5% systematic subsample when n ≥ 40 000 (default true). */
+  warmStart?: boolean
 }
 
 export interface FitResult {
@@ -41,6 +44,8 @@ export interface FitResult {
   iterations: IterationRecord[]
   warnings: EngineWarning[]
   perfectlyPredicted: number
+  /** Rows and iterations of the subsample fit that supplied the starting values, if any. */
+  warmStart: { rows: number, iterations: number } | null
 }
 
 function norm2(v: Float64Array): number {
@@ -66,29 +71,19 @@ function newtonStep(g: Float64Array, H: Float64Array, k: number): { step: Float6
   return { step: g.map(v => v / gn), ridged: true }
 }
 
-export function fitBinary(design: Design, linkName: LinkName = 'probit', options: FitOptions = {}): FitResult {
-  const link: Link = getLink(linkName)
-  const { n, k, y, w } = design
-  const maxIter = options.maxIterations ?? 50
-  const gradTol = options.gradTol ?? 1e-10
-  const relTol = options.relTol ?? 1e-8
-  const warnings: EngineWarning[] = options.skipSeparationCheck ? [] : checkSeparation(design)
+interface LoopState {
+  b: Float64Array
+  cur: PassResult
+  iterations: IterationRecord[]
+  converged: boolean
+  lineSearchFailed: boolean
+  ridgedAtEnd: boolean
+}
 
-  let b = new Float64Array(k)
-  if (options.start) {
-    if (options.start.length !== k) throw new EngineInputError('invalid_spec', `start values have length ${options.start.length}, expected ${k}`)
-    b.set(Array.from(options.start))
-  } else {
-    let s1 = 0
-    let sw = 0
-    for (let i = 0; i < n; i++) {
-      const wi = w ? w[i]! : 1
-      s1 += wi * y[i]!
-      sw += wi
-    }
-    b[0] = link.quantile(s1 / sw)
-  }
-
+/** Newton–Raphson with step halving from `b0`; see the module comment for the rules. */
+function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: number, gradTol: number, relTol: number): LoopState {
+  const k = design.k
+  let b = b0
   let cur = evaluate(design, link, b)
   if (!Number.isFinite(cur.loglik)) throw new EngineInputError('non_finite_input', 'log-likelihood is not finite at the starting values')
   const iterations: IterationRecord[] = []
@@ -133,6 +128,71 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
     b = nb
     cur = next
   }
+  return { b, cur, iterations, converged, lineSearchFailed, ridgedAtEnd }
+}
+
+/**
+ * Every s-th row, s = ⌊n / (n/20)⌋, as a separate small design (≈ 5% of the data, at least
+ * 10 000 rows). Newton on it gives starting values within sampling error of the full-data
+ * estimate, so the full data needs about two passes fewer. Deterministic (no randomness).
+ */
+function subsample(design: Design): Design | null {
+  const { n, k, X, y, w, cluster } = design
+  const m = Math.max(10000, Math.floor(n / 20))
+  const stride = Math.floor(n / m)
+  if (stride < 2) return null
+  const rows = Math.floor(n / stride)
+  const Xs = new Float64Array(rows * k)
+  const ys = new Float64Array(rows)
+  const ws = w ? new Float64Array(rows) : null
+  let ones = 0
+  for (let r = 0; r < rows; r++) {
+    const i = r * stride
+    Xs.set(X.subarray(i * k, (i + 1) * k), r * k)
+    ys[r] = y[i]!
+    ones += ys[r]!
+    if (ws) ws[r] = w![i]!
+  }
+  if (ones === 0 || ones === rows) return null
+  return { ...design, n: rows, X: Xs, y: ys, w: ws, cluster: cluster ? null : null, rowIndex: new Int32Array(0) }
+}
+
+export function fitBinary(design: Design, linkName: LinkName = 'probit', options: FitOptions = {}): FitResult {
+  const link: Link = getLink(linkName)
+  const { n, k, y, w } = design
+  const maxIter = options.maxIterations ?? 50
+  const gradTol = options.gradTol ?? 1e-10
+  const relTol = options.relTol ?? 1e-8
+  const warnings: EngineWarning[] = options.skipSeparationCheck ? [] : checkSeparation(design)
+
+  let b: Float64Array = new Float64Array(k)
+  if (options.start) {
+    if (options.start.length !== k) throw new EngineInputError('invalid_spec', `start values have length ${options.start.length}, expected ${k}`)
+    b.set(Array.from(options.start))
+  } else {
+    let s1 = 0
+    let sw = 0
+    for (let i = 0; i < n; i++) {
+      const wi = w ? w[i]! : 1
+      s1 += wi * y[i]!
+      sw += wi
+    }
+    b[0] = link.quantile(s1 / sw)
+  }
+
+  let warmStart: { rows: number, iterations: number } | null = null
+  if (!options.start && n >= 40000 && options.warmStart !== false) {
+    const sub = subsample(design)
+    if (sub) {
+      const pre = newtonLoop(sub, link, Float64Array.from(b), maxIter, 1e-6, 1e-6)
+      if (pre.converged && pre.b.every(v => Number.isFinite(v))) {
+        b = pre.b
+        warmStart = { rows: sub.n, iterations: pre.iterations.length - 1 }
+      }
+    }
+  }
+  const { b: bFinal, cur, iterations, converged, lineSearchFailed, ridgedAtEnd } = newtonLoop(design, link, b, maxIter, gradTol, relTol)
+  b = bFinal
 
   if (lineSearchFailed) {
     warnings.push({ code: 'line_search_failed', message: 'no step along the Newton direction increased the log-likelihood; estimates are the last iterate' })
@@ -165,6 +225,7 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
     converged,
     iterations,
     warnings,
-    perfectlyPredicted: cur.perfectlyPredicted
+    perfectlyPredicted: cur.perfectlyPredicted,
+    warmStart
   }
 }

@@ -21,32 +21,41 @@ export function checkSeparation(design: Design): EngineWarning[] {
   const min0 = new Float64Array(k).fill(Infinity)
   const max0 = new Float64Array(k).fill(-Infinity)
   const binary = new Uint8Array(k).fill(1)
-  // cells[j*4 + 2x + y]: counts for 0/1 columns
-  const cells = new Float64Array(k * 4)
+  // Sums of x among ones and zeros: for 0/1 columns they are the cell counts.
+  const sum1 = new Float64Array(k)
+  const sum0 = new Float64Array(k)
+  let n1 = 0
   for (let i = 0; i < n; i++) {
     const off = i * k
-    const yi = y[i]!
-    for (let j = 1; j < k; j++) {
-      const x = X[off + j]!
-      if (yi === 1) {
+    if (y[i] === 1) {
+      n1++
+      for (let j = 1; j < k; j++) {
+        const x = X[off + j]!
         if (x < min1[j]!) min1[j] = x
         if (x > max1[j]!) max1[j] = x
-      } else {
+        sum1[j]! += x
+        if (x !== 0 && x !== 1) binary[j] = 0
+      }
+    } else {
+      for (let j = 1; j < k; j++) {
+        const x = X[off + j]!
         if (x < min0[j]!) min0[j] = x
         if (x > max0[j]!) max0[j] = x
+        sum0[j]! += x
+        if (x !== 0 && x !== 1) binary[j] = 0
       }
-      if (x === 0 || x === 1) cells[j * 4 + 2 * x + yi]!++
-      else binary[j] = 0
     }
   }
+  const n0 = n - n1
   const outcome = plan.outcomeLabel
   for (let j = 1; j < k; j++) {
     const term = plan.terms[j]!
     if (binary[j]) {
-      const c00 = cells[j * 4]!
-      const c01 = cells[j * 4 + 1]!
-      const c10 = cells[j * 4 + 2]!
-      const c11 = cells[j * 4 + 3]!
+      // c<x><y>: rows with that column value and outcome
+      const c11 = sum1[j]!
+      const c01 = n1 - c11
+      const c10 = sum0[j]!
+      const c00 = n0 - c10
       if ((c01 === 0 && c10 === 0) || (c00 === 0 && c11 === 0)) {
         const dir = c01 === 0 ? 'exactly the rows with it have' : 'exactly the rows without it have'
         throw new EngineInputError('complete_separation',
