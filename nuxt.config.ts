@@ -1,0 +1,65 @@
+// Furrowcast: one Nuxt 4 app serving the tablet (offline PWA), the coordinator's workspace and the funder view.
+export default defineNuxtConfig({
+  modules: [
+    '@nuxt/eslint',
+    '@nuxtjs/tailwindcss',
+    '@pinia/nuxt',
+    '@vite-pwa/nuxt',
+    'nuxt-auth-utils'
+  ],
+  devtools: { enabled: false },
+  app: {
+    head: {
+      title: 'Furrowcast',
+      htmlAttrs: { lang: 'en' },
+      meta: [
+        { name: 'viewport', content: 'width=device-width, initial-scale=1' },
+        { name: 'theme-color', content: '#1f3b2d' },
+        { name: 'description', content: 'Farm visits, adoption models and village maps for agricultural programmes.' }
+      ],
+      link: [{ rel: 'icon', type: 'image/svg+xml', href: '/favicon.svg' }]
+    }
+  },
+  // Fonts ship inside the bundle from @fontsource: no font CDN is reachable in the field or here.
+  css: [
+    '@fontsource/atkinson-hyperlegible/400.css',
+    '@fontsource/atkinson-hyperlegible/700.css',
+    '@fontsource/ibm-plex-mono/400.css'
+  ],
+  compatibilityDate: '2026-11-01',
+  nitro: {
+    experimental: { tasks: false }
+  },
+  typescript: {
+    strict: true,
+    typeCheck: false
+  },
+  eslint: {
+    config: {
+      stylistic: { quotes: 'single', commaDangle: 'never' }
+    }
+  },
+  pwa: {
+    registerType: 'prompt',
+    injectRegister: false,
+    pwaAssets: { config: true },
+    manifest: {
+      name: 'Furrowcast',
+      short_name: 'Furrowcast',
+      description: 'Record farm visits offline and follow technology adoption by village.',
+      theme_color: '#1f3b2d',
+      background_color: '#f7f4ea',
+      display: 'standalone',
+      start_url: '/'
+    },
+    workbox: {
+      navigateFallback: '/',
+      navigateFallbackDenylist: [/^\/api\//],
+      globPatterns: ['**/*.{js,css,html,svg,png,woff,woff2}']
+    },
+    client: { installPrompt: true }
+  },
+  tailwindcss: {
+    cssPath: '~/assets/css/main.css'
+  }
+})

@@ -1,0 +1,50 @@
+// `npm test`: the same bootstrap as `npm start` against its own database, then every check in turn:
+// lint, typecheck, unit, integration (real MariaDB, real HTTP) and browser tests (Debian's Chromium).
+// Every stage runs even when an earlier one fails, and the exit code is non-zero if any failed.
+import { existsSync } from 'node:fs'
+import path from 'node:path'
+import { spawnSync } from 'node:child_process'
+import { startStack } from './lib/stack.mjs'
+import { DATA, ensureDebianPackage, ensureNodeModules, run, say } from './lib/system.mjs'
+
+ensureNodeModules()
+ensureDebianPackage('chromium', () => existsSync('/usr/bin/chromium'), 'the browser tests')
+ensureDebianPackage('python3-statsmodels', () => spawnSync('/usr/bin/python3', ['-c', 'import statsmodels'], { stdio: 'ignore' }).status === 0, 'the engine\'s reference comparison')
+
+const results = []
+function stage(name, command, args, env) {
+  say(`── ${name}`)
+  const started = Date.now()
+  const code = run(command, args, env ? { env } : {})
+  results.push({ name, ok: code === 0, seconds: (Date.now() - started) / 1000 })
+}
+
+stage('lint', 'npx', ['eslint', '.'])
+stage('typecheck', 'npx', ['nuxt', 'typecheck'])
+
+const appPort = Number(process.env.FURROWCAST_TEST_PORT ?? 3100)
+const outbox = path.join(DATA, 'test', 'outbox')
+const stack = await startStack({
+  database: 'furrowcast_test',
+  appPort,
+  smtpPort: Number(process.env.FURROWCAST_TEST_SMTP_PORT ?? 2526),
+  outbox,
+  seed: 'demo',
+  fresh: true,
+  secretFile: 'test-session-secret',
+  // Tests pose as several client addresses to exercise the per-IP sign-in limit.
+  extraEnv: { FURROWCAST_TRUST_PROXY: '1' }
+})
+
+stage('unit, integration and browser tests (vitest)', 'npx', ['vitest', 'run'], {
+  ...process.env,
+  FURROWCAST_TEST_URL: stack.url,
+  DATABASE_URL: stack.env.DATABASE_URL,
+  OUTBOX_DIR: outbox,
+  NUXT_SESSION_PASSWORD: stack.env.NUXT_SESSION_PASSWORD
+})
+
+await stack.stop()
+console.log('\n[furrowcast] summary')
+for (const r of results) console.log(`  ${r.ok ? 'ok  ' : 'FAIL'}  ${r.name} (${r.seconds.toFixed(1)} s)`)
+process.exit(results.every(r => r.ok) ? 0 : 1)

@@ -1,0 +1,32 @@
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize'
+
+export interface OrganisationSettings {
+  /** Villages with fewer visits than this are hidden from funders (small-cell suppression). */
+  minVisitsForFunders: number
+  defaultClusterVariable: string
+}
+
+export const DEFAULT_ORGANISATION_SETTINGS: OrganisationSettings = {
+  minVisitsForFunders: 5,
+  defaultClusterVariable: 'village'
+}
+
+export class Organisation extends Model<InferAttributes<Organisation>, InferCreationAttributes<Organisation>> {
+  declare id: CreationOptional<number>
+  declare name: string
+  declare slug: string
+  declare settings: CreationOptional<OrganisationSettings>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+
+  static initModel(sequelize: Sequelize) {
+    Organisation.init({
+      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
+      name: { type: DataTypes.STRING(160), allowNull: false },
+      slug: { type: DataTypes.STRING(80), allowNull: false, unique: true },
+      settings: { type: DataTypes.JSON, allowNull: false, defaultValue: DEFAULT_ORGANISATION_SETTINGS },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE
+    }, { sequelize, tableName: 'organisations' })
+  }
+}

@@ -1,0 +1,24 @@
+import { database } from '../db/connection'
+import { migrateUp } from '../db/migrator'
+import { seedDemo } from '../db/seed'
+
+let ready: Promise<void> | undefined
+
+/** Migrates (and seeds, when asked) once per process; every request waits for this before touching data. */
+export function databaseReady(): Promise<void> {
+  ready ??= (async () => {
+    const sequelize = database()
+    await sequelize.authenticate()
+    const applied = await migrateUp(sequelize, async () => {
+      if (serverConfig().FURROWCAST_SEED === 'demo' && await seedDemo(sequelize, hashPassword)) {
+        console.info('[furrowcast] demo organisation seeded')
+      }
+    })
+    if (applied.length) console.info(`[furrowcast] migrations applied: ${applied.join(', ')}`)
+  })()
+  // A failed preparation (database still starting, say) is retried by the next request.
+  ready.catch(() => {
+    ready = undefined
+  })
+  return ready
+}

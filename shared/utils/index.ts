@@ -1,0 +1,3 @@
+// Nuxt auto-imports only top-level files of shared/utils; nested schema files are re-exported here.
+export * from './schemas/auth'
+export * from './schemas/listing'

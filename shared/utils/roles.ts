@@ -1,0 +1,40 @@
+// The four roles of Furrowcast. Server routes check these; client navigation mirrors them.
+export const ROLES = ['admin', 'coordinator', 'enumerator', 'funder'] as const
+export type Role = typeof ROLES[number]
+
+export const ROLE_LABELS: Record<Role, string> = {
+  admin: 'Administrator',
+  coordinator: 'Coordinator',
+  enumerator: 'Enumerator',
+  funder: 'Funder'
+}
+
+export interface NavItem {
+  to: string
+  label: string
+  roles: readonly Role[]
+}
+
+// One list drives both the navigation bar and the client route guard, so they cannot disagree.
+export const NAV_ITEMS: readonly NavItem[] = [
+  { to: '/', label: 'Home', roles: ROLES },
+  { to: '/people', label: 'People', roles: ['admin'] },
+  { to: '/audit', label: 'Audit log', roles: ['admin'] }
+]
+
+/** Pages that anyone may open without signing in. */
+export const PUBLIC_PATHS: readonly string[] = ['/signin']
+
+export function canOpen(path: string, role: Role | undefined): boolean {
+  if (PUBLIC_PATHS.includes(path)) return true
+  if (!role) return false
+  const item = [...NAV_ITEMS]
+    .sort((a, b) => b.to.length - a.to.length)
+    .find(nav => nav.to === '/' ? path === '/' : path === nav.to || path.startsWith(`${nav.to}/`))
+  // Deny by default: a page not listed is reachable by no role until it is listed.
+  return item ? item.roles.includes(role) : false
+}
+
+export function navFor(role: Role): NavItem[] {
+  return NAV_ITEMS.filter(item => item.roles.includes(role))
+}

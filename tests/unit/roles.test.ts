@@ -1,0 +1,24 @@
+import { describe, expect, it } from 'vitest'
+import { ROLES, canOpen, navFor } from '../../shared/utils/roles'
+
+describe('client navigation mirrors the roles', () => {
+  it.each([
+    ['/', 'funder', true],
+    ['/people', 'admin', true],
+    ['/people', 'coordinator', false],
+    ['/people/12', 'admin', true],
+    ['/audit', 'enumerator', false],
+    ['/peoplex', 'admin', false],
+    ['/not-listed', 'admin', false],
+    ['/signin', undefined, true],
+    ['/', undefined, false]
+  ] as const)('%s for %s → %s', (path, role, expected) => {
+    expect(canOpen(path, role)).toBe(expected)
+  })
+
+  it('gives every role a home and only admins the people pages', () => {
+    for (const role of ROLES) expect(navFor(role).map(n => n.to)).toContain('/')
+    expect(navFor('admin').map(n => n.to)).toEqual(['/', '/people', '/audit'])
+    expect(navFor('funder').map(n => n.to)).toEqual(['/'])
+  })
+})

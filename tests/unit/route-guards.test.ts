@@ -1,0 +1,43 @@
+import { readFileSync, readdirSync, statSync } from 'node:fs'
+import path from 'node:path'
+import { describe, expect, it } from 'vitest'
+
+// Deny by default, checked on the source: every API route file must declare who may call it.
+const API = path.resolve(__dirname, '../../server/api')
+const PUBLIC_ROUTES = ['auth/signin.post.ts', 'health.get.ts']
+
+function routeFiles(dir: string): string[] {
+  return readdirSync(dir).flatMap((name) => {
+    const full = path.join(dir, name)
+    return statSync(full).isDirectory() ? routeFiles(full) : [path.relative(API, full)]
+  })
+}
+
+describe('API route files', () => {
+  const files = routeFiles(API)
+
+  it('exist', () => {
+    expect(files.length).toBeGreaterThan(3)
+  })
+
+  it.each(files)('%s declares its roles (or is knowingly public)', (file) => {
+    const source = readFileSync(path.join(API, file), 'utf8')
+    if (PUBLIC_ROUTES.includes(file)) {
+      expect(source).toMatch(/export default definePublicHandler\(/)
+    }
+    else {
+      expect(source).toMatch(/export default defineRoleHandler\(/)
+      expect(source).not.toMatch(/definePublicHandler|defineEventHandler/)
+    }
+  })
+
+  it.each(files)('%s is named after its HTTP method', (file) => {
+    expect(file).toMatch(/\.(get|post|put|patch|delete)\.ts$/)
+  })
+
+  it('the deny-by-default middleware lists exactly the public routes', () => {
+    const middleware = readFileSync(path.resolve(API, '../middleware/02.deny-by-default.ts'), 'utf8')
+    expect(middleware).toContain('\'POST /api/auth/signin\'')
+    expect(middleware).toContain('\'GET /api/health\'')
+  })
+})

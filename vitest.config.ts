@@ -1,0 +1,41 @@
+import { fileURLToPath } from 'node:url'
+import { defineConfig } from 'vitest/config'
+
+const alias = {
+  '#shared': fileURLToPath(new URL('./shared', import.meta.url))
+}
+
+// Three tiers, run by `npm test` after it has started MariaDB, the mail catcher and the built server.
+export default defineConfig({
+  resolve: { alias },
+  test: {
+    projects: [
+      {
+        resolve: { alias },
+        test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node' }
+      },
+      {
+        resolve: { alias },
+        test: {
+          name: 'integration',
+          include: ['tests/integration/**/*.test.ts'],
+          environment: 'node',
+          testTimeout: 30_000,
+          // One server and one database: files run one after another so counts and limits stay predictable.
+          fileParallelism: false
+        }
+      },
+      {
+        resolve: { alias },
+        test: {
+          name: 'e2e',
+          include: ['tests/e2e/**/*.test.ts'],
+          environment: 'node',
+          testTimeout: 60_000,
+          hookTimeout: 60_000,
+          fileParallelism: false
+        }
+      }
+    ]
+  }
+})
