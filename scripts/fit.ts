@@ -1,0 +1,229 @@
+/**
+ * Fit a binary adoption model to a CSV file with the Furrowcast engine.
+ *
+ *   npm run fit -- FILE.csv --outcome COL [--covariates a,b,c] [--categorical c]
+ *     [--link probit|logit|cloglog|cauchit] [--se conventional|robust|hc1|cluster:COL]
+ *     [--weights COL] [--margins ame|mem] [--json]
+ *
+ * Without --covariates every other column is used (except weights, cluster and an unnamed
+ * row-number column). Text columns with two yes/no (or true/false) values become yes/no
+ * covariates; other text columns must be listed in --categorical. Problems with the file,
+ * the columns or the outcome print ONE line on stderr and exit with code 2.
+ */
+import { readFileSync } from 'node:fs'
+import { EngineInputError, runModel, toYesNo, type CovariateSpec, type CovarianceType, type LinkName, type ModelResults, type ModelSpec } from '../shared/utils/stats/index'
+
+class UsageError extends Error {}
+
+interface Args {
+  file: string
+  outcome: string
+  covariates: string[] | null
+  categorical: string[]
+  link: LinkName
+  se: string
+  weights: string | null
+  margins: 'ame' | 'mem'
+  json: boolean
+}
+
+function parseArgs(argv: string[]): Args {
+  const a: Partial<Args> & { categorical: string[] } = { categorical: [], json: false }
+  const rest: string[] = []
+  for (let i = 0; i < argv.length; i++) {
+    const arg = argv[i]!
+    const value = (): string => {
+      const v = argv[++i]
+      if (v === undefined || v.startsWith('--')) throw new UsageError(`${arg} needs a value`)
+      return v
+    }
+    const list = (): string[] => value().split(',').map(s => s.trim()).filter(Boolean)
+    switch (arg) {
+      case '--outcome': a.outcome = value(); break
+      case '--covariates': a.covariates = list(); break
+      case '--categorical': a.categorical.push(...list()); break
+      case '--link': a.link = value() as LinkName; break
+      case '--se': a.se = value(); break
+      case '--weights': a.weights = value(); break
+      case '--margins': a.margins = value() as 'ame' | 'mem'; break
+      case '--json': a.json = true; break
+      default:
+        if (arg.startsWith('--')) throw new UsageError(`unknown option ${arg}`)
+        rest.push(arg)
+    }
+  }
+  if (rest.length !== 1) throw new UsageError('usage: fit FILE.csv --outcome COL [options]')
+  if (!a.outcome) throw new UsageError('--outcome COL is required')
+  const link = a.link ?? 'probit'
+  if (!['probit', 'logit', 'cloglog', 'cauchit'].includes(link)) throw new UsageError(`--link must be probit, logit, cloglog or cauchit (got '${link}')`)
+  const margins = a.margins ?? 'ame'
+  if (margins !== 'ame' && margins !== 'mem') throw new UsageError(`--margins must be ame or mem (got '${String(margins)}')`)
+  return {
+    file: rest[0]!, outcome: a.outcome, covariates: a.covariates ?? null, categorical: a.categorical,
+    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json
+  }
+}
+
+/** RFC 4180-style CSV: quoted fields with "" escapes and embedded commas/newlines, CRLF or LF. */
+export function parseCsv(text: string): { header: string[], rows: string[][] } {
+  const records: string[][] = []
+  let field = ''
+  let record: string[] = []
+  let quoted = false
+  let i = 0
+  if (text.charCodeAt(0) === 0xFEFF) i = 1
+  for (; i < text.length; i++) {
+    const ch = text[i]!
+    if (quoted) {
+      if (ch === '"') {
+        if (text[i + 1] === '"') {
+          field += '"'
+          i++
+        } else quoted = false
+      } else field += ch
+    } else if (ch === '"') quoted = true
+    else if (ch === ',') {
+      record.push(field)
+      field = ''
+    } else if (ch === '\n' || ch === '\r') {
+      if (ch === '\r' && text[i + 1] === '\n') i++
+      record.push(field)
+      records.push(record)
+      record = []
+      field = ''
+    } else field += ch
+  }
+  if (quoted) throw new UsageError('the file ends inside a quoted field')
+  if (field !== '' || record.length) {
+    record.push(field)
+    records.push(record)
+  }
+  const nonEmpty = records.filter(r => !(r.length === 1 && r[0] === ''))
+  if (nonEmpty.length < 2) throw new UsageError('the file has no data rows')
+  const header = nonEmpty[0]!
+  nonEmpty.slice(1).forEach((r, idx) => {
+    if (r.length !== header.length) throw new UsageError(`line ${idx + 2} has ${r.length} fields, the header has ${header.length}`)
+  })
+  return { header, rows: nonEmpty.slice(1) }
+}
+
+const isMissingText = (s: string): boolean => s.trim() === '' || s.trim() === 'NA'
+
+function buildSpec(args: Args, header: string[], columns: Record<string, Array<string | number | null>>): ModelSpec {
+  const known = new Set(header)
+  const need = (c: string, role: string): void => {
+    if (!known.has(c)) throw new UsageError(`unknown column '${c}' (${role}); the file has: ${header.filter(Boolean).join(', ')}`)
+  }
+  need(args.outcome, 'outcome')
+  let cluster: string | undefined
+  let se: CovarianceType
+  if (args.se.startsWith('cluster:')) {
+    cluster = args.se.slice('cluster:'.length)
+    need(cluster, 'cluster')
+    se = 'cluster'
+  } else if (args.se === 'robust') se = 'hc0'
+  else if (args.se === 'hc1' || args.se === 'conventional') se = args.se
+  else throw new UsageError(`--se must be conventional, robust, hc1 or cluster:COL (got '${args.se}')`)
+  if (args.weights) need(args.weights, 'weights')
+  for (const c of args.categorical) need(c, 'categorical')
+  const names = args.covariates ?? header.filter(h => h !== '' && h !== args.outcome && h !== args.weights && h !== cluster)
+  for (const c of names) need(c, 'covariate')
+  if (!names.length) throw new UsageError('no covariates to use')
+  const covariates: CovariateSpec[] = names.map((name) => {
+    if (args.categorical.includes(name)) return { name, type: 'categorical' }
+    const values = columns[name]!.filter((v): v is string | number => v !== null)
+    if (values.every(v => typeof v === 'number')) return { name, type: 'numeric' }
+    const distinct = new Set(values.map(v => String(v).trim().toLowerCase()))
+    if (distinct.size <= 2 && [...distinct].every(v => toYesNo(v) !== null)) return { name, type: 'yesno' }
+    throw new UsageError(`column '${name}' holds text; list it in --categorical to use it as categories`)
+  })
+  return { outcome: args.outcome, covariates, link: args.link, se, cluster, weights: args.weights ?? undefined, margins: args.margins }
+}
+
+function fmt(x: number | null, digits = 4): string {
+  if (x === null) return '—'
+  if (x !== 0 && (Math.abs(x) < 1e-3 || Math.abs(x) >= 1e5)) return x.toExponential(digits - 1)
+  return x.toFixed(digits)
+}
+
+function pfmt(p: number | null): string {
+  if (p === null) return '—'
+  return p < 0.0001 ? '<0.0001' : p.toFixed(4)
+}
+
+function table(head: string[], rows: string[][]): string {
+  const widths = head.map((h, i) => Math.max(h.length, ...rows.map(r => r[i]!.length)))
+  const line = (r: string[]): string => r.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('   ')
+  return [line(head), widths.map(w => '·'.repeat(w)).join('   '), ...rows.map(line)].join('\n')
+}
+
+function report(res: ModelResults, file: string): string {
+  const f = res.fit
+  const se = { conventional: 'model-based', hc0: 'robust (HC0)', hc1: 'robust (HC1, N/(N−K))', cluster: `clustered by ${res.cluster} (${res.covariance.clusters} groups)` }[res.covariance.type]
+  const out: string[] = []
+  out.push(`Adoption model for '${res.outcome.label}' — ${res.link} link — ${file}`)
+  out.push(`Farms used: ${res.rows.used} of ${res.rows.totalRows}${res.rows.dropped ? ` (${res.rows.dropped} set aside for missing values)` : ''}; standard errors: ${se}`)
+  out.push(`Estimation: ${res.converged ? 'converged' : 'DID NOT CONVERGE'} after ${res.iterations.length - 1} Newton steps in ${res.timings.fitMs.toFixed(1)} ms`)
+  out.push('')
+  out.push('Index coefficients (effects on x\'b, not on the probability)')
+  out.push(table(['term', 'coef', 'std.err', 'z', 'p', '95% interval'], res.coefficients.map(c => [
+    c.label, fmt(c.estimate), fmt(c.se), fmt(c.z, 2), pfmt(c.p), c.ciLow === null ? '—' : `${fmt(c.ciLow)} … ${fmt(c.ciHigh)}`
+  ])))
+  out.push('')
+  if (res.margins) {
+    const title = res.margins.kind === 'ame' ? 'averaged over the farms used' : 'at the mean farm'
+    out.push(`Change in adoption probability (${title}; percentage points per unit or per switch)`)
+    out.push(table(['covariate', 'effect', 'std.err', 'p', '95% interval', 'kind'], res.margins.effects.map(e => [
+      e.label, fmt(100 * e.estimate, 2), e.se === null ? '—' : fmt(100 * e.se, 2), pfmt(e.p),
+      e.ciLow === null ? '—' : `${fmt(100 * e.ciLow, 2)} … ${fmt(100 * e.ciHigh!, 2)}`, e.kind === 'discrete' ? 'switch' : 'slope'
+    ])))
+    out.push('')
+  }
+  out.push('How well the model fits')
+  out.push(`  log-likelihood ${fmt(f.loglik, 3)} (intercept only ${fmt(f.loglikNull, 3)}); LR χ² ${fmt(f.lrChi2, 2)} on ${f.lrDf} df, p ${pfmt(f.lrP)}`)
+  out.push(`  McFadden R² ${fmt(f.mcfaddenR2, 4)}; AIC ${fmt(f.aic, 2)}; BIC ${fmt(f.bic, 2)}; area under ROC ${fmt(res.roc.auc, 4)}`)
+  const c = res.classification
+  out.push(`  at cut-off ${c.cutoff}: ${fmt(100 * c.shareCorrect, 1)}% classified correctly (sensitivity ${c.sensitivity === null ? '—' : fmt(100 * c.sensitivity, 1)}%, specificity ${c.specificity === null ? '—' : fmt(100 * c.specificity, 1)}%)`)
+  if (res.hosmerLemeshow) out.push(`  Hosmer–Lemeshow over ${res.hosmerLemeshow.groups.length} groups: ${fmt(res.hosmerLemeshow.statistic, 2)} on ${res.hosmerLemeshow.df} df, p ${pfmt(res.hosmerLemeshow.p)}`)
+  out.push('')
+  if (res.warnings.length) {
+    out.push('Points to check')
+    for (const w of res.warnings) out.push(`  • [${w.code}] ${w.message}`)
+    out.push('')
+  }
+  out.push('Caution: these are associations in the recorded farms, not causal effects of the covariates on adoption.')
+  return out.join('\n')
+}
+
+function main(): void {
+  const args = parseArgs(process.argv.slice(2))
+  let text: string
+  try {
+    text = readFileSync(args.file, 'utf8')
+  } catch {
+    throw new UsageError(`cannot read '${args.file}'`)
+  }
+  const { header, rows } = parseCsv(text)
+  const columns: Record<string, Array<string | number | null>> = {}
+  header.forEach((h, j) => {
+    columns[h] = rows.map((r) => {
+      const s = r[j]!
+      if (isMissingText(s)) return null
+      const x = Number(s)
+      return s.trim() !== '' && Number.isFinite(x) ? x : s.trim()
+    })
+  })
+  const spec = buildSpec(args, header, columns)
+  const results = runModel(columns, spec)
+  process.stdout.write(args.json ? `${JSON.stringify(results, null, 2)}\n` : `${report(results, args.file)}\n`)
+}
+
+try {
+  main()
+} catch (e) {
+  if (e instanceof UsageError || e instanceof EngineInputError) {
+    process.stderr.write(`fit: ${e.message}\n`)
+    process.exit(2)
+  }
+  throw e
+}
