@@ -1,14 +1,12 @@
-import { mkdtempSync, mkdirSync, rmSync } from 'node:fs'
-import { tmpdir } from 'node:os'
+import { mkdirSync } from 'node:fs'
 import path from 'node:path'
 import { chromium, type Browser, type BrowserContext } from 'playwright-core'
 
-// Debian's Chromium, driven by playwright-core: no browser is downloaded.
+// Debian's Chromium, driven by playwright-core: no browser is downloaded. Playwright gives every
+// launch a fresh temporary profile of its own, so no --user-data-dir is passed.
 let browser: Browser | undefined
-let profile: string | undefined
 
 export async function launchBrowser(): Promise<Browser> {
-  profile = mkdtempSync(path.join(tmpdir(), 'furrowcast-chromium-'))
   browser = await chromium.launch({
     executablePath: '/usr/bin/chromium',
     headless: true,
@@ -19,8 +17,7 @@ export async function launchBrowser(): Promise<Browser> {
       '--disable-component-update',
       '--disable-sync',
       '--disable-quic',
-      '--no-first-run',
-      `--user-data-dir=${profile}`
+      '--no-first-run'
     ]
   })
   return browser
@@ -28,7 +25,6 @@ export async function launchBrowser(): Promise<Browser> {
 
 export async function closeBrowser() {
   await browser?.close()
-  if (profile) rmSync(profile, { recursive: true, force: true })
 }
 
 /** A fresh context posing as its own client address, so sign-in limits of one test never touch another. */

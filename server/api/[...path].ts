@@ -1,0 +1,6 @@
+import { ROLES } from '#shared/utils/roles'
+
+// An /api path that no route matches: a clear 404 instead of falling through to the page renderer.
+export default defineRoleHandler(ROLES, (event) => {
+  throw createError({ statusCode: 404, message: `There is no API route ${event.method} ${event.path.split('?')[0]}.` })
+})
