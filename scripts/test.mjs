@@ -23,9 +23,12 @@ stage('lint', 'npx', ['eslint', '.'])
 stage('typecheck', 'npx', ['nuxt', 'typecheck'])
 
 const appPort = Number(process.env.FURROWCAST_TEST_PORT ?? 3100)
-const outbox = path.join(DATA, 'test', 'outbox')
+// The test database is dropped and made anew on every run; its name must start with furrowcast_test.
+const database = process.env.FURROWCAST_TEST_DB ?? 'furrowcast_test'
+if (!database.startsWith('furrowcast_test')) throw new Error('FURROWCAST_TEST_DB must start with furrowcast_test')
+const outbox = path.join(DATA, database, 'outbox')
 const stack = await startStack({
-  database: 'furrowcast_test',
+  database,
   appPort,
   smtpPort: Number(process.env.FURROWCAST_TEST_SMTP_PORT ?? 2526),
   outbox,
