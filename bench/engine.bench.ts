@@ -171,7 +171,8 @@ function main(): void {
   if (existsSync(resultsPath)) {
     try {
       existing = JSON.parse(readFileSync(resultsPath, 'utf8')) as Entry[]
-    } catch {
+    }
+    catch {
       existing = []
     }
   }

@@ -39,14 +39,30 @@ function parseArgs(argv: string[]): Args {
     }
     const list = (): string[] => value().split(',').map(s => s.trim()).filter(Boolean)
     switch (arg) {
-      case '--outcome': a.outcome = value(); break
-      case '--covariates': a.covariates = list(); break
-      case '--categorical': a.categorical.push(...list()); break
-      case '--link': a.link = value() as LinkName; break
-      case '--se': a.se = value(); break
-      case '--weights': a.weights = value(); break
-      case '--margins': a.margins = value() as 'ame' | 'mem'; break
-      case '--json': a.json = true; break
+      case '--outcome':
+        a.outcome = value()
+        break
+      case '--covariates':
+        a.covariates = list()
+        break
+      case '--categorical':
+        a.categorical.push(...list())
+        break
+      case '--link':
+        a.link = value() as LinkName
+        break
+      case '--se':
+        a.se = value()
+        break
+      case '--weights':
+        a.weights = value()
+        break
+      case '--margins':
+        a.margins = value() as 'ame' | 'mem'
+        break
+      case '--json':
+        a.json = true
+        break
       default:
         if (arg.startsWith('--')) throw new UsageError(`unknown option ${arg}`)
         rest.push(arg)
@@ -79,19 +95,24 @@ export function parseCsv(text: string): { header: string[], rows: string[][] } {
         if (text[i + 1] === '"') {
           field += '"'
           i++
-        } else quoted = false
-      } else field += ch
-    } else if (ch === '"') quoted = true
+        }
+        else quoted = false
+      }
+      else field += ch
+    }
+    else if (ch === '"') quoted = true
     else if (ch === ',') {
       record.push(field)
       field = ''
-    } else if (ch === '\n' || ch === '\r') {
+    }
+    else if (ch === '\n' || ch === '\r') {
       if (ch === '\r' && text[i + 1] === '\n') i++
       record.push(field)
       records.push(record)
       record = []
       field = ''
-    } else field += ch
+    }
+    else field += ch
   }
   if (quoted) throw new UsageError('the file ends inside a quoted field')
   if (field !== '' || record.length) {
@@ -121,7 +142,8 @@ function buildSpec(args: Args, header: string[], columns: Record<string, Array<s
     cluster = args.se.slice('cluster:'.length)
     need(cluster, 'cluster')
     se = 'cluster'
-  } else if (args.se === 'robust') se = 'hc0'
+  }
+  else if (args.se === 'robust') se = 'hc0'
   else if (args.se === 'hc1' || args.se === 'conventional') se = args.se
   else throw new UsageError(`--se must be conventional, robust, hc1 or cluster:COL (got '${args.se}')`)
   if (args.weights) need(args.weights, 'weights')
@@ -200,7 +222,8 @@ function main(): void {
   let text: string
   try {
     text = readFileSync(args.file, 'utf8')
-  } catch {
+  }
+  catch {
     throw new UsageError(`cannot read '${args.file}'`)
   }
   const { header, rows } = parseCsv(text)
@@ -220,7 +243,8 @@ function main(): void {
 
 try {
   main()
-} catch (e) {
+}
+catch (e) {
   if (e instanceof UsageError || e instanceof EngineInputError) {
     process.stderr.write(`fit: ${e.message}\n`)
     process.exit(2)

@@ -17,7 +17,8 @@ export function classificationTable(p: Float64Array, y: Float64Array, w: Float64
     if (y[i] === 1) {
       if (pred) tp += wi
       else fn += wi
-    } else if (pred) fp += wi
+    }
+    else if (pred) fp += wi
     else tn += wi
   }
   const total = tp + fp + tn + fn

@@ -73,7 +73,8 @@ export function computeCovariance(design: Design, fit: FitResult, type: Covarian
         for (let m = 0; m <= j; m++) meat[j * k + m]! += uj * U[uo + m]!
       }
     }
-  } else {
+  }
+  else {
     for (let i = 0; i < n; i++) {
       const off = i * k
       let eta = 0

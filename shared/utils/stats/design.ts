@@ -170,7 +170,8 @@ function layoutColumns(plan: DesignPlan, interactions: Array<[string, string]>):
         terms.push({ name: `${c.name}[${lvl}]`, label: `${c.label}: ${lvl} vs ${c.reference!}`, kind: 'dummy' })
         return terms.length - 1
       })
-    } else {
+    }
+    else {
       terms.push({
         name: valueName(c),
         label: c.type === 'yesno' ? `${c.label}: yes vs no` : valueLabel(c),
@@ -226,7 +227,8 @@ export function fillRow(plan: DesignPlan, profile: Profile, out: Float64Array): 
     const v = profile[c]!
     if (cp.type === 'categorical') {
       for (let l = 0; l < cp.dummyCols.length; l++) if (cp.dummyCols[l]! >= 0) out[cp.dummyCols[l]!] = v[l]!
-    } else {
+    }
+    else {
       if (cp.mainCol >= 0) out[cp.mainCol] = v[0]!
       if (cp.squareCol >= 0) out[cp.squareCol] = v[0]! * v[0]!
     }
@@ -249,7 +251,8 @@ export function readProfile(plan: DesignPlan, row: ArrayLike<number>, offset: nu
     const v = out[c]!
     if (cp.type === 'categorical') {
       for (let l = 0; l < cp.dummyCols.length; l++) v[l] = cp.dummyCols[l]! >= 0 ? row[offset + cp.dummyCols[l]!]! : 0
-    } else {
+    }
+    else {
       v[0] = cp.mainCol >= 0 ? row[offset + cp.mainCol]! : 0
     }
   }
@@ -276,11 +279,13 @@ export function untransformValue(c: CovariatePlan, v: number): number {
 function encodeValue(c: CovariatePlan, raw: unknown, row: number, slot: Float64Array): void {
   if (c.type === 'numeric') {
     slot[0] = transformValue(c, toNumber(raw, c.name, row), row)
-  } else if (c.type === 'yesno') {
+  }
+  else if (c.type === 'yesno') {
     const d = toYesNo(raw)
     if (d === null) throw new EngineInputError('invalid_value', `'${c.name}' must be yes/no, true/false or 0/1; row ${row + 1} has '${String(raw)}'`, [c.name])
     slot[0] = d
-  } else {
+  }
+  else {
     const lvl = toLevel(raw)
     slot.fill(0)
     const li = c.nonReferenceLevels.indexOf(lvl)
@@ -368,7 +373,8 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
           if (!spc.levels.includes(f)) throw new EngineInputError('invalid_value', `'${c.name}' has level '${f}' not in its declared levels`, [c.name])
         }
         levels = [...spc.levels]
-      } else {
+      }
+      else {
         levels = [...found].sort((p, q) => (p < q ? -1 : p > q ? 1 : 0))
       }
       const ref = spc.reference ?? levels[0]
@@ -378,7 +384,8 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
       c.levels = levels
       c.reference = ref
       c.nonReferenceLevels = levels.filter(l => l !== ref)
-    } else if (c.transform === 'centre') {
+    }
+    else if (c.transform === 'centre') {
       let s = 0
       for (let r = 0; r < n; r++) s += toNumber(get(rowIndex[r]!), c.name, rowIndex[r]!)
       c.centre = n > 0 ? s / n : 0

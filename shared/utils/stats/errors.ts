@@ -9,30 +9,30 @@
  *   `warnings` list of the result. Warnings are never only logged.
  */
 
-export type EngineErrorCode =
-  | 'unknown_variable'
-  | 'outcome_not_binary'
-  | 'outcome_constant'
-  | 'too_few_rows'
-  | 'non_finite_input'
-  | 'invalid_value'
-  | 'invalid_spec'
-  | 'complete_separation'
-  | 'singular_information'
-  | 'not_nested'
+export type EngineErrorCode
+  = | 'unknown_variable'
+    | 'outcome_not_binary'
+    | 'outcome_constant'
+    | 'too_few_rows'
+    | 'non_finite_input'
+    | 'invalid_value'
+    | 'invalid_spec'
+    | 'complete_separation'
+    | 'singular_information'
+    | 'not_nested'
 
-export type EngineWarningCode =
-  | 'rows_dropped_missing'
-  | 'collinear_column_dropped'
-  | 'empty_level_dropped'
-  | 'quasi_complete_separation'
-  | 'perfect_prediction'
-  | 'not_converged'
-  | 'line_search_failed'
-  | 'hessian_not_negative_definite'
-  | 'few_clusters'
-  | 'weights_not_likelihood'
-  | 'small_hl_groups'
+export type EngineWarningCode
+  = | 'rows_dropped_missing'
+    | 'collinear_column_dropped'
+    | 'empty_level_dropped'
+    | 'quasi_complete_separation'
+    | 'perfect_prediction'
+    | 'not_converged'
+    | 'line_search_failed'
+    | 'hessian_not_negative_definite'
+    | 'few_clusters'
+    | 'weights_not_likelihood'
+    | 'small_hl_groups'
 
 /** A problem the fit survived; part of every result object. */
 export interface EngineWarning {

@@ -169,7 +169,8 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
   if (options.start) {
     if (options.start.length !== k) throw new EngineInputError('invalid_spec', `start values have length ${options.start.length}, expected ${k}`)
     b.set(Array.from(options.start))
-  } else {
+  }
+  else {
     let s1 = 0
     let sw = 0
     for (let i = 0; i < n; i++) {

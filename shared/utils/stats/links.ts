@@ -58,7 +58,8 @@ export function makeLink(def: LinkDefinition): Link {
       out[0] = def.logCdf(t)
       out[1] = r
       out[2] = r * g - r * r
-    } else {
+    }
+    else {
       const r = pdfOverSurv(t)
       out[0] = def.logSurv(t)
       out[1] = -r
@@ -117,7 +118,8 @@ export const probit: Link = makeLink({
       const r = scaledLowerTail(-s)
       out[0] = -0.5 * s * s + Math.log(r)
       lambda = 1 / (2.5066282746310002 * r)
-    } else {
+    }
+    else {
       const e = Math.exp(-0.5 * s * s)
       const upper = e * scaledLowerTail(s) // 1 − Φ(s)
       out[0] = Math.log1p(-upper)
@@ -168,7 +170,8 @@ export const logit: Link = makeLink({
     if (y === 1) {
       out[0] = t >= 0 ? -l1p : t - l1p
       out[1] = pc
-    } else {
+    }
+    else {
       out[0] = t >= 0 ? -t - l1p : -l1p
       out[1] = -p
     }
@@ -211,7 +214,8 @@ export const cloglog: Link = makeLink({
       out[0] = logF
       out[1] = r
       out[2] = r * (1 - u) - r * r
-    } else {
+    }
+    else {
       // ℓ = −e^t, so both derivatives are −e^t as well; written directly to avoid
       // the cancellation in −(1 − e^t)e^t − e^{2t} at large t.
       out[0] = -u

@@ -113,7 +113,8 @@ function accumulate(
       for (let c = 0; c < prof.length; c++) prof[c]!.set(profileAt[c]!)
       x.fill(0)
       fillRow(plan, prof, x)
-    } else {
+    }
+    else {
       wi = w ? w[i]! : 1
       for (let j = 0; j < k; j++) x[j] = X[i * k + j]!
       readProfile(plan, X, i * k, prof)
@@ -132,7 +133,8 @@ function accumulate(
         const a = wi * fp * D
         const c = wi * f
         for (let j = 0; j < k; j++) J[j]! += a * x[j]! + c * dx[j]!
-      } else {
+      }
+      else {
         const cp = plan.covariates[ef.covariate]!
         for (let c = 0; c < prof.length; c++) alt[c]!.set(prof[c]!)
         setDiscrete(cp, alt[ef.covariate]!, ef.level, true)
@@ -189,11 +191,13 @@ export function applyValues(design: Design, profile: Profile, values: Record<str
       const x = typeof raw === 'number' ? raw : Number(raw)
       if (!Number.isFinite(x)) throw new EngineInputError('invalid_value', `value for '${name}' must be a finite number`, [name])
       slot[0] = transformValue(c, x, -1)
-    } else if (c.type === 'yesno') {
+    }
+    else if (c.type === 'yesno') {
       const d = toYesNo(raw)
       if (d === null) throw new EngineInputError('invalid_value', `value for '${name}' must be yes/no or 0/1`, [name])
       slot[0] = d
-    } else {
+    }
+    else {
       const lvl = toLevel(raw)
       if (lvl !== c.reference && !c.nonReferenceLevels.includes(lvl)) {
         throw new EngineInputError('invalid_value', `'${name}' has no level '${lvl}'`, [name])
@@ -216,7 +220,7 @@ export function marginalEffects(design: Design, fit: FitResult, cov: Covariance,
   if (kind !== 'ame') {
     profile = meanProfile(design)
     if (kind === 'at') {
-      if (!options.at) throw new EngineInputError('invalid_spec', "margins 'at' needs covariate values")
+      if (!options.at) throw new EngineInputError('invalid_spec', 'margins \'at\' needs covariate values')
       applyValues(design, profile, options.at)
     }
   }

@@ -122,11 +122,13 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
       const x = typeof spec.set === 'number' ? spec.set : Number(spec.set)
       if (!Number.isFinite(x)) throw new EngineInputError('invalid_value', `scenario '${spec.name}': value must be a number`, [spec.covariate])
       setSlot[0] = transformValue(c, x, -1)
-    } else if (c.type === 'yesno') {
+    }
+    else if (c.type === 'yesno') {
       const d = toYesNo(spec.set)
       if (d === null) throw new EngineInputError('invalid_value', `scenario '${spec.name}': value must be yes/no or 0/1`, [spec.covariate])
       setSlot[0] = d
-    } else {
+    }
+    else {
       const lvl = toLevel(spec.set)
       const li = c.nonReferenceLevels.indexOf(lvl)
       if (li < 0 && lvl !== c.reference) throw new EngineInputError('invalid_value', `scenario '${spec.name}': '${spec.covariate}' has no level '${lvl}'`, [spec.covariate])

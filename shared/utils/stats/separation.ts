@@ -36,7 +36,8 @@ export function checkSeparation(design: Design): EngineWarning[] {
         sum1[j]! += x
         if (x !== 0 && x !== 1) binary[j] = 0
       }
-    } else {
+    }
+    else {
       for (let j = 1; j < k; j++) {
         const x = X[off + j]!
         if (x < min0[j]!) min0[j] = x
@@ -89,7 +90,8 @@ export function checkSeparation(design: Design): EngineWarning[] {
         message: `quasi-complete separation: '${term.label}' above ${max0[j]} always has ${outcome} = 1 and below it always 0 (ties at ${max0[j]}); its coefficient tends to +infinity`,
         variables: [term.name]
       })
-    } else if (max1[j] === min0[j]) {
+    }
+    else if (max1[j] === min0[j]) {
       warnings.push({
         code: 'quasi_complete_separation',
         message: `quasi-complete separation: '${term.label}' below ${min0[j]} always has ${outcome} = 1 and above it always 0 (ties at ${min0[j]}); its coefficient tends to −infinity`,

@@ -62,7 +62,8 @@ export function toNumber(v: unknown, variable: string, row: number): number {
   else if (typeof v === 'string') {
     x = Number(v.trim())
     if (Number.isNaN(x)) throw new EngineInputError('invalid_value', `'${variable}' has a non-numeric value '${v}' in row ${row + 1}`, [variable])
-  } else throw new EngineInputError('invalid_value', `'${variable}' has an unreadable value in row ${row + 1}`, [variable])
+  }
+  else throw new EngineInputError('invalid_value', `'${variable}' has an unreadable value in row ${row + 1}`, [variable])
   if (!Number.isFinite(x)) {
     throw new EngineInputError('non_finite_input', `'${variable}' has a non-finite value (${String(x)}) in row ${row + 1}`, [variable])
   }

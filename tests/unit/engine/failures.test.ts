@@ -10,7 +10,8 @@ const noisy = (i: number): number => ((i * 7919) % 101) / 101 - 0.5
 function code(fn: () => unknown): string {
   try {
     fn()
-  } catch (e) {
+  }
+  catch (e) {
     if (e instanceof EngineInputError) return e.code
     throw e
   }
@@ -26,7 +27,8 @@ describe('failure cases', () => {
     let err: EngineInputError | null = null
     try {
       runModel(d, spec)
-    } catch (e) {
+    }
+    catch (e) {
       err = e as EngineInputError
     }
     expect(err?.code).toBe('complete_separation')

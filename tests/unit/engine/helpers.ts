@@ -15,7 +15,8 @@ export function readCsv(path: string): Array<Record<string, string>> {
       else if (ch === ',' && !q) {
         out.push(cur)
         cur = ''
-      } else cur += ch
+      }
+      else cur += ch
     }
     out.push(cur)
     return out

@@ -35,13 +35,13 @@ const spector = readCsv(`${FIXTURES}reference/program-effectiveness.csv`).map(r 
 }))
 // Gerfin (1996) Swiss labour data as in Kleiber & Zeileis, Applied Econometrics with R.
 const swiss = readCsv(`${FIXTURES}reference/swiss-labor.csv`).map(r => ({
-  participation: yes(r.participation!),
-  income: Number(r.income),
-  age: Number(r.age),
-  education: Number(r.education),
-  youngkids: Number(r.youngkids),
-  oldkids: Number(r.oldkids),
-  foreign: yes(r.foreign!),
+  'participation': yes(r.participation!),
+  'income': Number(r.income),
+  'age': Number(r.age),
+  'education': Number(r.education),
+  'youngkids': Number(r.youngkids),
+  'oldkids': Number(r.oldkids),
+  'foreign': yes(r.foreign!),
   'I(age^2)': Number(r.age) ** 2
 }))
 // Mroz (1987) as in Wooldridge, Introductory Econometrics, Example 17.1.
