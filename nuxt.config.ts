@@ -1,3 +1,6 @@
+import path from 'node:path'
+import { bundleFitWorker } from './scripts/lib/bundle-fit-worker.mjs'
+
 // Furrowcast: one Nuxt 4 app serving the tablet (offline PWA), the coordinator's workspace and the funder view.
 export default defineNuxtConfig({
   modules: [
@@ -28,7 +31,14 @@ export default defineNuxtConfig({
   ],
   compatibilityDate: '2026-11-01',
   nitro: {
-    experimental: { tasks: false }
+    experimental: { tasks: false },
+    hooks: {
+      // Model fits run in worker threads; the worker needs a file of its own beside the built server.
+      async compiled(nitro) {
+        if (nitro.options.dev) return
+        await bundleFitWorker(path.join(nitro.options.output.serverDir, 'workers', 'fit.worker.mjs'))
+      }
+    }
   },
   typescript: {
     strict: true,

@@ -1,0 +1,70 @@
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import path from 'node:path'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { bundleFitWorker } from '../../../scripts/lib/bundle-fit-worker.mjs'
+import { runFitInWorker } from '../../../server/utils/fit-runner'
+import { runModel } from '../../../shared/utils/stats'
+
+// The same esbuild bundle of the worker that the build puts beside the server.
+const dir = mkdtempSync(path.join(tmpdir(), 'furrowcast-worker-'))
+const options = { workerPath: path.join(dir, 'fit.worker.mjs') }
+beforeAll(() => bundleFitWorker(options.workerPath))
+afterAll(() => rmSync(dir, { recursive: true, force: true }))
+
+// Spector & Mazzeo (1980), as tabulated in Greene, Econometric Analysis; see tests/fixtures/reference/README.md.
+function spector() {
+  const lines = readFileSync(path.resolve(__dirname, '../../fixtures/reference/program-effectiveness.csv'), 'utf8').trim().split('\n').slice(1)
+  return lines.map((line) => {
+    const [, grade, average, testscore, participation] = line.split(',').map(f => f.replace(/"/g, ''))
+    return { grade: grade === 'increase' ? 1 : 0, average: Number(average), testscore: Number(testscore), participation: participation === 'yes' ? 1 : 0 }
+  })
+}
+
+const spec = {
+  outcome: 'grade',
+  covariates: [
+    { name: 'average', type: 'numeric' as const },
+    { name: 'testscore', type: 'numeric' as const },
+    { name: 'participation', type: 'numeric' as const }
+  ],
+  link: 'probit' as const
+}
+
+describe('fits in a worker thread', () => {
+  it('gives the same numbers as the engine in-process, and the published probit coefficients', async () => {
+    const rows = spector()
+    const reply = await runFitInWorker(rows, spec, options)
+    expect(reply.ok).toBe(true)
+    if (!reply.ok) return
+    const local = runModel(rows, spec)
+    expect(reply.results.coefficients.map(c => c.estimate)).toEqual(local.coefficients.map(c => c.estimate))
+    // Reference: statsmodels 0.13.5 Probit on the same data (tests/fixtures/reference/reference-values.json).
+    expect(reply.results.coefficients[0]!.estimate).toBeCloseTo(-7.452319648220317, 8)
+  })
+
+  it('returns the engine\'s named input error instead of throwing', async () => {
+    const rows = spector().map(r => ({ ...r, grade: 1 }))
+    const reply = await runFitInWorker(rows, spec, options)
+    expect(reply.ok).toBe(false)
+    if (reply.ok) return
+    expect(reply.error.kind).toBe('input')
+    expect(reply.error.code).toMatch(/constant/)
+  })
+
+  it('keeps the calling thread responsive during a large fit', async () => {
+    const n = 200_000
+    let seed = 7
+    const random = () => (seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648
+    const x = Array.from({ length: n }, () => random() * 4 - 2)
+    const y = x.map(v => (v + (random() - 0.5) * 3 > 0 ? 1 : 0))
+    let ticks = 0
+    const timer = setInterval(() => {
+      ticks += 1
+    }, 5)
+    const reply = await runFitInWorker({ y, x }, { outcome: 'y', covariates: [{ name: 'x', type: 'numeric' }] }, options)
+    clearInterval(timer)
+    expect(reply.ok).toBe(true)
+    expect(ticks).toBeGreaterThan(3)
+  })
+})
