@@ -1,0 +1,5 @@
+export * from './questions'
+export * from './request'
+export * from './spec-builder'
+export * from './reading'
+export * from './planning'

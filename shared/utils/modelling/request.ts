@@ -1,0 +1,48 @@
+import { z } from 'zod'
+
+const key = z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Unknown question key')
+
+export const covariateChoiceSchema = z.object({
+  key,
+  transform: z.enum(['log', 'centre']).optional(),
+  square: z.boolean().optional(),
+  /** Choice questions: the option the others are compared with. */
+  reference: z.string().max(40).optional()
+})
+export type CovariateChoice = z.infer<typeof covariateChoiceSchema>
+
+export const LINK_CHOICES = ['probit', 'logit', 'cloglog', 'cauchit'] as const
+export const SE_CHOICES = ['cluster', 'conventional', 'hc1'] as const
+
+export const LINK_LABELS: Record<typeof LINK_CHOICES[number], string> = {
+  probit: 'Probit (normal)',
+  logit: 'Logit (logistic)',
+  cloglog: 'Complementary log-log',
+  cauchit: 'Cauchit (Cauchy)'
+}
+
+export const SE_LABELS: Record<typeof SE_CHOICES[number], string> = {
+  cluster: 'Clustered by village (recommended: villages were sampled)',
+  conventional: 'Conventional',
+  hc1: 'Robust to heteroskedasticity (HC1)'
+}
+
+/** What a coordinator chooses in the model builder; the server turns it into an engine specification. */
+export const modelRequestSchema = z.object({
+  roundId: z.coerce.number().int().positive(),
+  covariates: z.array(covariateChoiceSchema).min(1, 'Choose at least one farm characteristic').max(30),
+  interactions: z.array(z.tuple([key, key])).max(10).default([]),
+  link: z.enum(LINK_CHOICES).default('probit'),
+  se: z.enum(SE_CHOICES).default('cluster'),
+  weights: key.optional(),
+  margins: z.enum(['ame', 'mem']).default('ame')
+}).superRefine((request, ctx) => {
+  const keys = request.covariates.map(c => c.key)
+  if (new Set(keys).size !== keys.length) ctx.addIssue({ code: 'custom', path: ['covariates'], message: 'A characteristic is chosen twice' })
+  request.interactions.forEach(([a, b], i) => {
+    if (a === b) ctx.addIssue({ code: 'custom', path: ['interactions', i], message: 'An interaction needs two different characteristics' })
+    if (!keys.includes(a) || !keys.includes(b)) ctx.addIssue({ code: 'custom', path: ['interactions', i], message: 'Both parts of an interaction must be in the model' })
+  })
+})
+export type ModelRequest = z.infer<typeof modelRequestSchema>
+export type ModelRequestInput = z.input<typeof modelRequestSchema>

@@ -1,0 +1,76 @@
+import type { CovariateSpec, ModelSpec } from '../stats/types'
+import { displayLabel, modelableQuestions, type ModelQuestion } from './questions'
+import type { ModelRequest } from './request'
+
+export const VILLAGE_COLUMN = 'village'
+
+export class ModelRequestError extends Error {
+  constructor(readonly field: string, message: string) {
+    super(message)
+    this.name = 'ModelRequestError'
+  }
+}
+
+/**
+ * Turns the builder's choices into an engine specification, checking every choice against the questionnaire:
+ * only numbers, yes/no and choices can be covariates; log and squares only for numbers; a reference level
+ * only for choices.
+ */
+export function specFromRequest(request: ModelRequest, questions: readonly ModelQuestion[], outcomeKey: string): ModelSpec {
+  const usable = new Map(modelableQuestions(questions, outcomeKey).map(q => [q.key, q]))
+  const outcome = questions.find(q => q.key === outcomeKey)
+  const covariates: CovariateSpec[] = request.covariates.map((choice, i) => {
+    const question = usable.get(choice.key)
+    if (!question) throw new ModelRequestError(`covariates.${i}`, `"${choice.key}" is not a number, yes/no or choice question of this round`)
+    const numeric = question.type === 'number' || question.type === 'whole'
+    if ((choice.transform || choice.square) && !numeric) {
+      throw new ModelRequestError(`covariates.${i}`, `${question.label}: transforms apply to numbers only`)
+    }
+    if (question.type === 'choice') {
+      const levels = (question.options ?? []).map(o => o.value)
+      const reference = choice.reference ?? levels[0]
+      if (!reference || !levels.includes(reference)) throw new ModelRequestError(`covariates.${i}`, `${question.label}: unknown reference option "${choice.reference}"`)
+      return { name: question.key, label: question.label, type: 'categorical', levels, reference }
+    }
+    if (choice.reference) throw new ModelRequestError(`covariates.${i}`, `${question.label}: a reference option applies to choice questions only`)
+    if (question.type === 'yesno') return { name: question.key, label: question.label, type: 'yesno' }
+    return { name: question.key, label: displayLabel(question), type: 'numeric', transform: choice.transform, square: choice.square }
+  })
+  if (request.weights && !questions.some(q => q.key === request.weights && (q.type === 'number' || q.type === 'whole'))) {
+    throw new ModelRequestError('weights', 'Sampling weights must come from a number question')
+  }
+  return {
+    outcome: outcomeKey,
+    outcomeLabel: outcome?.label ?? 'adopted',
+    covariates,
+    interactions: request.interactions,
+    link: request.link,
+    weights: request.weights,
+    cluster: VILLAGE_COLUMN,
+    se: request.se,
+    margins: request.margins
+  }
+}
+
+const LINK_SYMBOL: Record<string, string> = { probit: 'Φ', logit: 'Λ', cloglog: 'F_cloglog', cauchit: 'F_Cauchy' }
+
+/** The model as one line people can read: P(adopt) = Φ(β₀ + β₁·farm size + …). */
+export function equationText(spec: ModelSpec): string {
+  const terms: string[] = []
+  for (const c of spec.covariates) {
+    const base = c.transform === 'log' ? `log ${c.label ?? c.name}` : c.transform === 'centre' ? `${c.label ?? c.name} (centred)` : (c.label ?? c.name)
+    if (c.type === 'categorical') {
+      for (const level of (c.levels ?? []).filter(l => l !== c.reference)) terms.push(`[${c.label ?? c.name} = ${level}]`)
+    }
+    else terms.push(base)
+    if (c.square) terms.push(`${base}²`)
+  }
+  for (const [a, b] of spec.interactions ?? []) {
+    const label = (name: string) => spec.covariates.find(c => c.name === name)?.label ?? name
+    terms.push(`${label(a)} × ${label(b)}`)
+  }
+  const subscripts = '₀₁₂₃₄₅₆₇₈₉'
+  const sub = (n: number) => String(n).split('').map(d => subscripts[Number(d)]).join('')
+  const body = ['β₀', ...terms.map((t, i) => `β${sub(i + 1)}·${t}`)].join(' + ')
+  return `P(${spec.outcomeLabel ? 'adopt' : spec.outcome} = 1) = ${LINK_SYMBOL[spec.link ?? 'probit']}(${body})`
+}

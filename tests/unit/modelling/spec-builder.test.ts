@@ -1,0 +1,66 @@
+import { describe, expect, it } from 'vitest'
+import { equationText, ModelRequestError, modelRequestSchema, readMarginalEffect, specFromRequest, type ModelQuestion } from '../../../shared/utils/modelling'
+
+const questions: ModelQuestion[] = [
+  { key: 'adopted', label: 'Adopted the seed this season', type: 'yesno' },
+  { key: 'farm_size', label: 'Farm size', type: 'number', unit: 'ha' },
+  { key: 'extension', label: 'Extension contact last season', type: 'yesno' },
+  { key: 'soil', label: 'Soil type', type: 'choice', options: [{ value: 'loam', label: 'Loam' }, { value: 'clay', label: 'Clay' }, { value: 'sand', label: 'Sand' }] },
+  { key: 'visit_date', label: 'Date', type: 'date' }
+]
+
+const request = (body: unknown) => modelRequestSchema.parse(body)
+
+describe('model builder choices → engine specification', () => {
+  it('maps numbers, yes/no and choices, with a chosen reference and village clustering by default', () => {
+    const spec = specFromRequest(request({
+      roundId: 1,
+      covariates: [{ key: 'farm_size', transform: 'log' }, { key: 'extension' }, { key: 'soil', reference: 'clay' }]
+    }), questions, 'adopted')
+    expect(spec.link).toBe('probit')
+    expect(spec.se).toBe('cluster')
+    expect(spec.cluster).toBe('village')
+    expect(spec.covariates).toEqual([
+      { name: 'farm_size', label: 'Farm size (ha)', type: 'numeric', transform: 'log', square: undefined },
+      { name: 'extension', label: 'Extension contact last season', type: 'yesno' },
+      { name: 'soil', label: 'Soil type', type: 'categorical', levels: ['loam', 'clay', 'sand'], reference: 'clay' }
+    ])
+    expect(equationText(spec)).toBe('P(adopt = 1) = Φ(β₀ + β₁·log Farm size (ha) + β₂·Extension contact last season + β₃·[Soil type = loam] + β₄·[Soil type = sand])')
+  })
+
+  it.each([
+    [{ covariates: [{ key: 'visit_date' }] }, /not a number, yes\/no or choice/],
+    [{ covariates: [{ key: 'adopted' }] }, /not a number, yes\/no or choice/],
+    [{ covariates: [{ key: 'extension', square: true }] }, /numbers only/],
+    [{ covariates: [{ key: 'soil', reference: 'peat' }] }, /unknown reference/],
+    [{ covariates: [{ key: 'farm_size', reference: 'x' }] }, /choice questions only/],
+    [{ covariates: [{ key: 'farm_size' }], weights: 'extension' }, /number question/]
+  ])('refuses %j', (body, message) => {
+    expect(() => specFromRequest(request({ roundId: 1, ...body }), questions, 'adopted')).toThrow(ModelRequestError)
+    expect(() => specFromRequest(request({ roundId: 1, ...body }), questions, 'adopted')).toThrow(message)
+  })
+
+  it('checks interactions and duplicates in the request schema itself', () => {
+    expect(modelRequestSchema.safeParse({ roundId: 1, covariates: [{ key: 'farm_size' }, { key: 'farm_size' }] }).success).toBe(false)
+    expect(modelRequestSchema.safeParse({ roundId: 1, covariates: [{ key: 'farm_size' }], interactions: [['farm_size', 'extension']] }).success).toBe(false)
+    expect(modelRequestSchema.safeParse({ roundId: 1, covariates: [] }).success).toBe(false)
+  })
+})
+
+describe('one-line readings of marginal effects', () => {
+  const base = { covariate: 'extension', label: 'Extension contact last season', kind: 'discrete' as const, se: 0.025, z: 4.8 }
+
+  it('reads a significant yes/no effect in percentage points, as an association', () => {
+    expect(readMarginalEffect({ ...base, estimate: 0.12, p: 0.0001, ciLow: 0.071, ciHigh: 0.169 }))
+      .toBe('Extension contact last season goes with a 12-point higher adoption probability (95% CI 7.1 to 16.9 points).')
+  })
+
+  it('reads a negative effect per unit', () => {
+    expect(readMarginalEffect({ ...base, covariate: 'distance', label: 'distance to the input dealer', kind: 'derivative', estimate: -0.0134, p: 0.001, ciLow: -0.02, ciHigh: -0.0068 }, 'km'))
+      .toBe('Each additional km of distance to the input dealer goes with a 1.3-point lower adoption probability (95% CI 0.7 to 2 points).')
+  })
+
+  it('says nothing for an effect that is not significant at 5 %', () => {
+    expect(readMarginalEffect({ ...base, estimate: 0.02, p: 0.4, ciLow: -0.03, ciHigh: 0.07 })).toBeNull()
+  })
+})
