@@ -12,7 +12,7 @@ import { fitBinary } from './fit'
 import { marginalEffects } from './margins'
 import { predictProbabilities, scenario, villageMeans } from './predict'
 import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
-import type { CovarianceSummary, ModelResults, ModelSpec } from './types'
+import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
 import type { DataInput } from './values'
 
 export const ENGINE_VERSION = '1.0.0'
@@ -90,6 +90,7 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
     classification,
     roc,
     hosmerLemeshow: hl,
+    predictedHistogram: predictedHistogram(p, design.y),
     margins,
     villages,
     scenarios,
@@ -103,6 +104,18 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
       totalMs: t5 - t0
     }
   }
+}
+
+/** Counts of fitted probabilities in 20 equal bins, split by outcome, for the adopters/non-adopters chart. */
+export function predictedHistogram(p: Float64Array, y: Float64Array, bins = 20): PredictedHistogram {
+  const adopters = Array.from({ length: bins }, () => 0)
+  const nonAdopters = Array.from({ length: bins }, () => 0)
+  for (let i = 0; i < p.length; i++) {
+    const bin = Math.min(bins - 1, Math.floor(p[i]! * bins))
+    if (y[i]! === 1) adopters[bin]! += 1
+    else nonAdopters[bin]! += 1
+  }
+  return { edges: Array.from({ length: bins + 1 }, (_, i) => i / bins), adopters, nonAdopters }
 }
 
 function sumWeighted(y: Float64Array, w: Float64Array | null): number {

@@ -196,6 +196,13 @@ export interface CovarianceSummary {
   matrix: Array<Array<number | null>>
 }
 
+export interface PredictedHistogram {
+  /** Bin edges on [0, 1]; bin i holds edges[i] ≤ p̂ < edges[i + 1] (the last bin includes 1). */
+  edges: number[]
+  adopters: number[]
+  nonAdopters: number[]
+}
+
 export interface Timings {
   designMs: number
   fitMs: number
@@ -220,6 +227,7 @@ export interface ModelResults {
   classification: ClassificationTable
   roc: { auc: number, points: RocPoint[] }
   hosmerLemeshow: HosmerLemeshow | null
+  predictedHistogram: PredictedHistogram
   margins: Margins | null
   villages: VillagePrediction[] | null
   scenarios: ScenarioResult[]

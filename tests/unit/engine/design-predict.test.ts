@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest'
 import {
   buildDesign, chiSquareSf, computeCovariance, fitBinary, hosmerLemeshow, lrTest, marginalEffects, predictProbabilities,
-  probit, quadForm, rocCurve, scenario, villageMeans, type ModelSpec
+  predictedHistogram, probit, quadForm, rocCurve, scenario, villageMeans, type ModelSpec
 } from '../../../shared/utils/stats/index'
 import { relErr } from './helpers'
 
@@ -165,5 +165,22 @@ describe('LR test, ROC/AUC, Hosmer–Lemeshow', () => {
     const order = Array.from(p.keys()).sort((a, b) => p[a]! - p[b]! || a - b)
     const first = order.slice(0, hl.groups[0]!.n).reduce((a, i) => a + full.y[i]!, 0)
     expect(hl.groups[0]!.observed).toBe(first)
+  })
+})
+
+describe('predicted-probability histogram', () => {
+  it('puts every row in exactly one bin, split by outcome', () => {
+    const p = Float64Array.from([0, 0.049, 0.05, 0.5, 0.999, 1])
+    const y = Float64Array.from([0, 1, 0, 1, 1, 0])
+    const h = predictedHistogram(p, y)
+    expect(h.edges).toHaveLength(21)
+    expect(h.adopters.reduce((a, b) => a + b, 0)).toBe(3)
+    expect(h.nonAdopters.reduce((a, b) => a + b, 0)).toBe(3)
+    expect(h.nonAdopters[0]).toBe(1)
+    expect(h.adopters[0]).toBe(1)
+    expect(h.nonAdopters[1]).toBe(1)
+    expect(h.adopters[10]).toBe(1)
+    expect(h.adopters[19]).toBe(1)
+    expect(h.nonAdopters[19]).toBe(1)
   })
 })
