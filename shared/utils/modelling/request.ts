@@ -46,3 +46,15 @@ export const modelRequestSchema = z.object({
 })
 export type ModelRequest = z.infer<typeof modelRequestSchema>
 export type ModelRequestInput = z.input<typeof modelRequestSchema>
+
+/** A counterfactual the coordinator asks for: set a characteristic for everyone, or shift it, maybe in some villages. */
+export const scenarioRequestSchema = z.object({
+  name: z.string().trim().min(1, 'Name the scenario').max(80),
+  covariate: key,
+  set: z.union([z.number().finite(), z.string().max(40), z.boolean()]).optional(),
+  shift: z.number().finite().optional(),
+  villages: z.array(z.string().max(40)).max(500).optional()
+}).refine(s => (s.set === undefined) !== (s.shift === undefined), { message: 'Give either a value to set or an amount to shift, not both', path: ['set'] })
+export type ScenarioRequest = z.infer<typeof scenarioRequestSchema>
+
+export const scenariosRequestSchema = z.object({ scenarios: z.array(scenarioRequestSchema).min(1).max(10) })

@@ -48,7 +48,8 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
     weights: request.weights,
     cluster: VILLAGE_COLUMN,
     se: request.se,
-    margins: request.margins
+    margins: request.margins,
+    bothMargins: true
   }
 }
 

@@ -56,6 +56,8 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
   const t3 = now()
   const marginsKind = spec.margins ?? 'ame'
   const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt })
+  const otherKind = marginsKind === 'ame' ? 'mem' : marginsKind === 'mem' ? 'ame' : null
+  const otherMargins = spec.bothMargins && otherKind ? marginalEffects(design, fit, cov, { kind: otherKind }) : null
   const t4 = now()
   const villages = design.cluster ? villageMeans(design, fit, cov) : null
   const scenarios = (spec.scenarios ?? []).map(s => scenario(design, fit, cov, s))
@@ -92,6 +94,7 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
     hosmerLemeshow: hl,
     predictedHistogram: predictedHistogram(p, design.y),
     margins,
+    otherMargins,
     villages,
     scenarios,
     warnings,

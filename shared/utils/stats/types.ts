@@ -61,6 +61,8 @@ export interface ModelSpec {
   se?: CovarianceType
   /** Default 'ame'. 'at' needs `marginsAt`. 'none' skips margins. */
   margins?: MarginsKind | 'none'
+  /** Also compute the other of AME / MEM (as `otherMargins`), so a reader can switch without a refit. */
+  bothMargins?: boolean
   /** Covariate values for margins 'at'; unspecified covariates are held at their means. */
   marginsAt?: Record<string, number | string>
   /** Classification cut-off; default 0.5. 'sample-rate' uses the (weighted) share of ones. */
@@ -229,6 +231,8 @@ export interface ModelResults {
   hosmerLemeshow: HosmerLemeshow | null
   predictedHistogram: PredictedHistogram
   margins: Margins | null
+  /** With `bothMargins`: MEM when `margins` is AME, and AME when it is MEM; otherwise null. */
+  otherMargins: Margins | null
   villages: VillagePrediction[] | null
   scenarios: ScenarioResult[]
   warnings: EngineWarning[]

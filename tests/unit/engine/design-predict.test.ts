@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest'
 import {
   buildDesign, chiSquareSf, computeCovariance, fitBinary, hosmerLemeshow, lrTest, marginalEffects, predictProbabilities,
-  predictedHistogram, probit, quadForm, rocCurve, scenario, villageMeans, type ModelSpec
+  predictedHistogram, probit, quadForm, rocCurve, runModel, scenario, villageMeans, type ModelSpec
 } from '../../../shared/utils/stats/index'
 import { relErr } from './helpers'
 
@@ -182,5 +182,21 @@ describe('predicted-probability histogram', () => {
     expect(h.adopters[10]).toBe(1)
     expect(h.adopters[19]).toBe(1)
     expect(h.nonAdopters[19]).toBe(1)
+  })
+})
+
+describe('both kinds of marginal effects in one run', () => {
+  it('gives as otherMargins exactly what a separate run at the means gives', () => {
+    const data = farms(400)
+    const base: ModelSpec = {
+      outcome: 'adopted',
+      covariates: [{ name: 'distance' }, { name: 'soil', type: 'categorical', reference: 'loam' }, { name: 'member', type: 'yesno' }]
+    }
+    const both = runModel(data, { ...base, margins: 'ame', bothMargins: true })
+    const atMeans = runModel(data, { ...base, margins: 'mem' })
+    expect(both.margins?.kind).toBe('ame')
+    expect(both.otherMargins?.kind).toBe('mem')
+    expect(both.otherMargins?.effects).toEqual(atMeans.margins?.effects)
+    expect(runModel(data, base).otherMargins).toBeNull()
   })
 })
