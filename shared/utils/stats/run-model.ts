@@ -98,6 +98,7 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
     villages,
     scenarios,
     warnings,
+    plan: design.plan,
     timings: {
       designMs: t1 - t0,
       fitMs: t2 - t1,

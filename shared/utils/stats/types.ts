@@ -7,6 +7,7 @@
  * `null` rather than NaN, so JSON.stringify/parse round-trips the object unchanged.
  */
 import type { EngineWarning } from './errors'
+import type { DesignPlan } from './design'
 import type { LinkName } from './links'
 
 export type CovariateType = 'numeric' | 'yesno' | 'categorical'
@@ -236,6 +237,8 @@ export interface ModelResults {
   villages: VillagePrediction[] | null
   scenarios: ScenarioResult[]
   warnings: EngineWarning[]
+  /** How raw answers become the design row: with the coefficients, enough to predict new farms anywhere. */
+  plan: DesignPlan
   /** Wall-clock times; the only field that differs between two runs on the same input. */
   timings: Timings
 }

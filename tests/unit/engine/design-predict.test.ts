@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest'
 import {
   buildDesign, chiSquareSf, computeCovariance, fitBinary, hosmerLemeshow, lrTest, marginalEffects, predictProbabilities,
-  predictedHistogram, probit, quadForm, rocCurve, runModel, scenario, villageMeans, type ModelSpec
+  predictedHistogram, predictNew, probit, quadForm, rocCurve, runModel, scenario, villageMeans, type ModelSpec
 } from '../../../shared/utils/stats/index'
 import { relErr } from './helpers'
 
@@ -198,5 +198,19 @@ describe('both kinds of marginal effects in one run', () => {
     expect(both.otherMargins?.kind).toBe('mem')
     expect(both.otherMargins?.effects).toEqual(atMeans.margins?.effects)
     expect(runModel(data, base).otherMargins).toBeNull()
+  })
+})
+
+describe('predicting new farms from a stored run', () => {
+  it('reproduces the fit from the results plan and coefficients alone: logit p̂ sums to the adopters (score equation)', () => {
+    const data = farms(300)
+    const results = JSON.parse(JSON.stringify(runModel(data, {
+      outcome: 'adopted',
+      link: 'logit',
+      covariates: [{ name: 'distance', transform: 'centre' }, { name: 'soil', type: 'categorical', reference: 'clay' }, { name: 'member', type: 'yesno' }]
+    })))
+    const p = predictNew(results.plan, results.coefficients.map((c: { estimate: number }) => c.estimate), 'logit', data)
+    const adopters = data.reduce((s, r) => s + Number(r.adopted), 0)
+    expect(p.reduce((s: number, v) => s + (v ?? 0), 0)).toBeCloseTo(adopters, 6)
   })
 })
