@@ -54,10 +54,23 @@ function requireClusters(design: Design): Int32Array {
 /** Mean predicted adoption per village, with delta-method SE and 95% interval. */
 export function villageMeans(design: Design, fit: FitResult, cov: Covariance): VillagePrediction[] {
   const cl = requireClusters(design)
+  return groupMeans(design, fit, cov, cl, design.clusterLabels)
+}
+
+/** Mean predicted adoption over every row used, with its delta-method SE: the headline figure. */
+export function overallMean(design: Design, fit: FitResult, cov: Covariance): VillagePrediction {
+  return groupMeans(design, fit, cov, new Int32Array(design.n), ['all'])[0]!
+}
+
+/**
+ * Weighted mean of p̂ within each group, with delta-method SE from the gradient
+ * (1/Σw) Σ wᵢ f(xᵢ'b) xᵢ of the mean with respect to b.
+ */
+function groupMeans(design: Design, fit: FitResult, cov: Covariance, groupOf: Int32Array, labels: string[]): VillagePrediction[] {
   const { n, k, X, y, w } = design
   const link = getLink(fit.link)
   const b = fit.coef
-  const G = design.clusterLabels.length
+  const G = labels.length
   const sw = new Float64Array(G)
   const sp = new Float64Array(G)
   const sy = new Float64Array(G)
@@ -68,7 +81,7 @@ export function villageMeans(design: Design, fit: FitResult, cov: Covariance): V
     let eta = 0
     for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
     const wi = w ? w[i]! : 1
-    const g = cl[i]!
+    const g = groupOf[i]!
     sw[g]! += wi
     sp[g]! += wi * link.cdf(eta)
     sy[g]! += wi * y[i]!
@@ -82,7 +95,7 @@ export function villageMeans(design: Design, fit: FitResult, cov: Covariance): V
     if (cnt[g] === 0) continue
     const jg = J.subarray(g * k, (g + 1) * k).map(v => v / sw[g]!)
     out.push({
-      village: design.clusterLabels[g]!,
+      village: labels[g]!,
       n: cnt[g]!,
       observedRate: sy[g]! / sw[g]!,
       ...makeEstimate(sp[g]! / sw[g]!, cov.V ? quadForm(cov.V, jg, k) : null)

@@ -10,7 +10,7 @@ import { buildDesign } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
 import { fitBinary } from './fit'
 import { marginalEffects } from './margins'
-import { predictProbabilities, scenario, villageMeans } from './predict'
+import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
 import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
 import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
 import type { DataInput } from './values'
@@ -60,6 +60,7 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
   const otherMargins = spec.bothMargins && otherKind ? marginalEffects(design, fit, cov, { kind: otherKind }) : null
   const t4 = now()
   const villages = design.cluster ? villageMeans(design, fit, cov) : null
+  const overall = overallMean(design, fit, cov)
   const scenarios = (spec.scenarios ?? []).map(s => scenario(design, fit, cov, s))
   const t5 = now()
 
@@ -95,6 +96,7 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
     predictedHistogram: predictedHistogram(p, design.y),
     margins,
     otherMargins,
+    overall,
     villages,
     scenarios,
     warnings,

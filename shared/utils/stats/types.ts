@@ -234,6 +234,8 @@ export interface ModelResults {
   margins: Margins | null
   /** With `bothMargins`: MEM when `margins` is AME, and AME when it is MEM; otherwise null. */
   otherMargins: Margins | null
+  /** Mean predicted adoption over all rows used (its `village` is 'all'). */
+  overall: VillagePrediction
   villages: VillagePrediction[] | null
   scenarios: ScenarioResult[]
   warnings: EngineWarning[]

@@ -214,3 +214,37 @@ describe('predicting new farms from a stored run', () => {
     expect(p.reduce((s: number, v) => s + (v ?? 0), 0)).toBeCloseTo(adopters, 6)
   })
 })
+
+describe('overall predicted adoption', () => {
+  it('is the size-weighted mean of the village means, and its SE matches a numeric-gradient delta method', () => {
+    const data = farms(400)
+    const spec: ModelSpec = { outcome: 'adopted', cluster: 'village', covariates: [{ name: 'distance' }, { name: 'member', type: 'yesno' }] }
+    const r = runModel(data, spec)
+    const villages = r.villages!
+    const n = villages.reduce((s, v) => s + v.n, 0)
+    expect(r.overall.estimate).toBeCloseTo(villages.reduce((s, v) => s + v.n * v.estimate, 0) / n, 12)
+    expect(r.overall.observedRate).toBeCloseTo(villages.reduce((s, v) => s + v.n * v.observedRate, 0) / n, 12)
+    // Independent: numeric gradient of the mean p̂ with respect to b, then g'Vg.
+    const design = buildDesign(data, spec)
+    const fit = fitBinary(design, 'probit')
+    const cov = computeCovariance(design, fit, 'cluster')
+    const meanAt = (b: Float64Array) => {
+      let s = 0
+      for (let i = 0; i < design.n; i++) {
+        let eta = 0
+        for (let j = 0; j < design.k; j++) eta += design.X[i * design.k + j]! * b[j]!
+        s += probit.cdf(eta)
+      }
+      return s / design.n
+    }
+    const g = Array.from({ length: design.k }, (_, j) => {
+      const h = 1e-6
+      const up = Float64Array.from(fit.coef)
+      const down = Float64Array.from(fit.coef)
+      up[j]! += h
+      down[j]! -= h
+      return (meanAt(up) - meanAt(down)) / (2 * h)
+    })
+    expect(relErr(r.overall.se!, Math.sqrt(quadForm(cov.V!, Float64Array.from(g), design.k)))).toBeLessThan(1e-6)
+  })
+})
