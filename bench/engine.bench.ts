@@ -10,10 +10,11 @@
  * Run: npx tsx bench/engine.bench.ts
  */
 import { spawnSync } from 'node:child_process'
-import { closeSync, existsSync, mkdirSync, openSync, readFileSync, writeFileSync, writeSync } from 'node:fs'
+import { closeSync, mkdirSync, openSync, writeSync } from 'node:fs'
 import { dirname, join } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { computeCovariance, designFromMatrix, fitBinary, marginalEffects } from '../shared/utils/stats/index'
+import { mergeResults, printTable, round, type BenchEntry } from './lib/results-file'
 
 const here = dirname(fileURLToPath(import.meta.url))
 const tmpDir = join(here, 'tmp')
@@ -120,7 +121,7 @@ function child(n: number): void {
   process.stdout.write(`${JSON.stringify({ n, fitMs, fullMs, iterations, rssMb, designMb, coef })}\n`)
 }
 
-interface Entry { name: string, n: number, ours_ms: number, peer: string, peer_ms: number | null, ratio: number | null, peak_rss_mb: number }
+type Entry = BenchEntry
 
 function peer(csv: string, n: number): { fit_ms: number, full_ms: number, iterations: number, version: string, coef: number[] } | null {
   const r = spawnSync(PYTHON, [join(here, 'statsmodels_peer.py'), csv, String(reps(n))], { encoding: 'utf8', maxBuffer: 1 << 24 })
@@ -161,31 +162,8 @@ function main(): void {
       rows.push([name, String(n), oursMs.toFixed(1), String(ours.iterations), ours.rssMb.toFixed(0), ours.designMb.toFixed(0), peerMs === null ? '—' : peerMs.toFixed(1), ratio === null ? '—' : ratio.toFixed(3)])
     }
   }
-  const head = ['benchmark', 'n', 'ours ms', 'iter', 'peak RSS MB', 'data MB', 'statsmodels ms', 'ratio']
-  const widths = head.map((h, i) => Math.max(h.length, ...rows.map(r => r[i]!.length)))
-  const fmt = (r: string[]): string => r.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ')
-  console.log(fmt(head))
-  for (const r of rows) console.log(fmt(r))
-  const resultsPath = join(here, 'results.json')
-  let existing: Entry[] = []
-  if (existsSync(resultsPath)) {
-    try {
-      existing = JSON.parse(readFileSync(resultsPath, 'utf8')) as Entry[]
-    }
-    catch {
-      existing = []
-    }
-  }
-  const key = (e: { name: string, n: number }): string => `${e.name}@${e.n}`
-  const fresh = new Set(entries.map(key))
-  const merged = [...existing.filter(e => !fresh.has(key(e))), ...entries]
-  writeFileSync(resultsPath, `${JSON.stringify(merged, null, 2)}\n`)
-  console.log(`results written to bench/results.json (${entries.length} entries updated)`)
-}
-
-function round(x: number, digits = 1): number {
-  const f = 10 ** digits
-  return Math.round(x * f) / f
+  printTable(['benchmark', 'n', 'ours ms', 'iter', 'peak RSS MB', 'data MB', 'statsmodels ms', 'ratio'], rows)
+  mergeResults(entries)
 }
 
 const childAt = process.argv.indexOf('--child')
