@@ -19,12 +19,25 @@ export function readMarginalEffect(effect: MarginalEffect, unit?: string): strin
   const ci = effect.estimate >= 0
     ? `${points(low)} to ${points(high)}`
     : `${points(-high)} to ${points(-low)}`
-  const subject = effect.kind === 'discrete'
-    ? (effect.level && effect.reference && effect.level !== '1'
-        ? `${effect.label.split(':')[0]}: ${effect.level} rather than ${effect.reference}`
-        : effect.label)
-    : `each additional ${unit ?? 'unit'} of ${effect.label}`
-  return `${capitalise(subject)} goes with a ${formatPoints(effect.estimate)}-point ${direction} adoption probability (95% CI ${ci} points).`
+  const subject = subjectOf(effect, unit)
+  const amount = formatPoints(effect.estimate)
+  return `${capitalise(subject)} goes with ${article(amount)} ${amount}-point ${direction} adoption probability (95% CI ${ci} points).`
+}
+
+function subjectOf(effect: MarginalEffect, unit?: string): string {
+  if (effect.kind === 'discrete' && effect.level === 'yes' && effect.reference === 'no') {
+    return `answering yes to “${effect.label.replace(/: yes vs no$/, '')}”`
+  }
+  if (effect.kind === 'discrete' && effect.level && effect.reference) {
+    return `${effect.label.replace(/: .* vs .*$/, '')}: ${effect.level} rather than ${effect.reference}`
+  }
+  const name = effect.label.replace(/ \([^)]*\)$/, '')
+  return `each additional ${unit ?? 'unit'} of ${name.charAt(0).toLowerCase()}${name.slice(1)}`
+}
+
+/** "an 8-point", "an 11-point", "a 12-point": by how the number is spoken. */
+function article(amount: string): string {
+  return /^(8|11|18)(\.|$)/.test(amount) || /^8\d/.test(amount) ? 'an' : 'a'
 }
 
 function capitalise(text: string): string {

@@ -58,3 +58,12 @@ export const scenarioRequestSchema = z.object({
 export type ScenarioRequest = z.infer<typeof scenarioRequestSchema>
 
 export const scenariosRequestSchema = z.object({ scenarios: z.array(scenarioRequestSchema).min(1).max(10) })
+
+export const publishRequestSchema = z.object({
+  note: z.string().trim().min(3, 'Write a short note for the readers').max(500),
+  /** Villages predicted below this share are flagged to funders (0–1). */
+  targetRate: z.number().min(0).max(1).default(0.3),
+  /** Show the farm-level planning aid on enumerators' tablets for this round. Off by default. */
+  tabletAid: z.boolean().default(false)
+})
+export type PublishRequest = z.infer<typeof publishRequestSchema>

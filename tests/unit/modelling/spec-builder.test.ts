@@ -48,16 +48,21 @@ describe('model builder choices → engine specification', () => {
 })
 
 describe('one-line readings of marginal effects', () => {
-  const base = { covariate: 'extension', label: 'Extension contact last season', kind: 'discrete' as const, se: 0.025, z: 4.8 }
+  const base = { covariate: 'extension', label: 'Contact with an extension officer last season?: yes vs no', kind: 'discrete' as const, level: 'yes', reference: 'no', se: 0.025, z: 4.8 }
 
   it('reads a significant yes/no effect in percentage points, as an association', () => {
     expect(readMarginalEffect({ ...base, estimate: 0.12, p: 0.0001, ciLow: 0.071, ciHigh: 0.169 }))
-      .toBe('Extension contact last season goes with a 12-point higher adoption probability (95% CI 7.1 to 16.9 points).')
+      .toBe('Answering yes to “Contact with an extension officer last season?” goes with a 12-point higher adoption probability (95% CI 7.1 to 16.9 points).')
   })
 
-  it('reads a negative effect per unit', () => {
-    expect(readMarginalEffect({ ...base, covariate: 'distance', label: 'distance to the input dealer', kind: 'derivative', estimate: -0.0134, p: 0.001, ciLow: -0.02, ciHigh: -0.0068 }, 'km'))
-      .toBe('Each additional km of distance to the input dealer goes with a 1.3-point lower adoption probability (95% CI 0.7 to 2 points).')
+  it('reads a negative effect per unit, without repeating the unit', () => {
+    expect(readMarginalEffect({ ...base, covariate: 'distance', label: 'Distance to the nearest input dealer (km)', kind: 'derivative', level: undefined, reference: undefined, estimate: -0.0134, p: 0.001, ciLow: -0.02, ciHigh: -0.0068 }, 'km'))
+      .toBe('Each additional km of distance to the nearest input dealer goes with a 1.3-point lower adoption probability (95% CI 0.7 to 2 points).')
+  })
+
+  it('reads a choice level against its reference', () => {
+    expect(readMarginalEffect({ ...base, covariate: 'soil', label: 'Soil type: clay vs loam', level: 'clay', reference: 'loam', estimate: 0.08, p: 0.01, ciLow: 0.02, ciHigh: 0.14 }))
+      .toBe('Soil type: clay rather than loam goes with an 8-point higher adoption probability (95% CI 2 to 14 points).')
   })
 
   it('says nothing for an effect that is not significant at 5 %', () => {
