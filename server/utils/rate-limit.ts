@@ -19,3 +19,8 @@ export async function refuseOverLimit(event: H3Event, bucket: string, subject: s
   setResponseHeader(event, 'Retry-After', minutes * 60)
   throw createError({ statusCode: 429, message: `${message} Try again in ${minutes} minutes.` })
 }
+
+/** Drops events older than a day: every window is far shorter, so they can never count again. */
+export async function pruneRateEvents() {
+  await RateEvent.destroy({ where: { createdAt: { [Op.lt]: new Date(Date.now() - 86_400_000) } } })
+}
