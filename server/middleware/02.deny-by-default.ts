@@ -2,6 +2,9 @@
 // Each protected route then checks the role itself through defineRoleHandler.
 const PUBLIC_API = new Set([
   'POST /api/auth/signin',
+  'POST /api/auth/link',
+  'POST /api/auth/password',
+  'POST /api/auth/forgot',
   'GET /api/health',
   'GET /api/_auth/session'
 ])

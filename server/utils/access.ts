@@ -16,12 +16,27 @@ export async function requireRole(event: H3Event, roles: readonly Role[]): Promi
     await clearUserSession(event)
     throw createError({ statusCode: 401, message: 'This account is no longer active. Ask your administrator.' })
   }
+  // A sealed cookie cannot be revoked, so a password change raises the user's session version instead:
+  // every session signed in before it (cookies without a version count as version 0) is refused here.
+  if ((session.secure?.sessionVersion ?? 0) !== user.sessionVersion) {
+    await clearUserSession(event)
+    throw createError({ statusCode: 401, message: 'Your password was changed, so this session has ended. Sign in again.' })
+  }
   if (user.role !== session.user.role) {
     // Keep the cookie's copy (used only for navigation) in step with the database.
     await setUserSession(event, { user: sessionUserOf(user), signedInAt: session.signedInAt ?? new Date().toISOString() })
   }
   if (!roles.includes(user.role)) throw createError({ statusCode: 403, message: 'Your role does not allow this.' })
   return user
+}
+
+/** Starts (or renews) the caller's session for this user, at the user's current session version. */
+export async function startSession(event: H3Event, user: SignedInUser) {
+  await replaceUserSession(event, {
+    user: sessionUserOf(user),
+    signedInAt: new Date().toISOString(),
+    secure: { sessionVersion: user.sessionVersion }
+  })
 }
 
 export function sessionUserOf(user: SignedInUser) {

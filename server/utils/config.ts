@@ -11,7 +11,18 @@ const configSchema = z.object({
   FURROWCAST_TRUST_PROXY: z.enum(['0', '1']).default('0'),
   SIGNIN_WINDOW_MINUTES: z.coerce.number().int().min(1).default(15),
   SIGNIN_MAX_FAILURES_PER_EMAIL: z.coerce.number().int().min(1).default(10),
-  SIGNIN_MAX_FAILURES_PER_IP: z.coerce.number().int().min(1).default(30)
+  SIGNIN_MAX_FAILURES_PER_IP: z.coerce.number().int().min(1).default(30),
+  // The folder where the local mail catcher keeps messages; the admins' outbox page reads it.
+  OUTBOX_DIR: z.string().min(1).optional(),
+  INVITATION_HOURS: z.coerce.number().int().min(1).max(24 * 30).default(72),
+  RESET_MINUTES: z.coerce.number().int().min(5).max(24 * 60).default(60),
+  // Refused invitation or reset links per address in the sign-in window before the address is blocked.
+  LINK_MAX_FAILURES_PER_IP: z.coerce.number().int().min(1).default(20),
+  RESET_MAX_PER_IP: z.coerce.number().int().min(1).default(10),
+  RESET_MAX_PER_EMAIL: z.coerce.number().int().min(1).default(3),
+  // How often queued mail is retried (0: only right after each change); attempts before a message fails.
+  MAIL_RETRY_SECONDS: z.coerce.number().int().min(0).default(30),
+  MAIL_MAX_ATTEMPTS: z.coerce.number().int().min(1).max(50).default(8)
 })
 
 export type ServerConfig = z.infer<typeof configSchema>

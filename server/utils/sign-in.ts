@@ -39,7 +39,7 @@ export async function signIn(event: H3Event, input: SignInInput) {
   }
 
   await user.update({ lastSignInAt: new Date() })
-  await setUserSession(event, { user: sessionUserOf(user), signedInAt: new Date().toISOString() })
+  await startSession(event, user)
   await audit(event, actor, { action: 'signin', entityType: 'user', entityId: user.id })
   return sessionUserOf(user)
 }

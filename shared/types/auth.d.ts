@@ -13,6 +13,11 @@ declare module '#auth-utils' {
   interface UserSession {
     signedInAt: string
   }
+
+  // Server-only part of the sealed cookie: the user's session version at sign-in (see requireRole).
+  interface SecureSessionData {
+    sessionVersion: number
+  }
 }
 
 export {}

@@ -14,6 +14,22 @@ export interface PersonRow {
   role: Role
   active: boolean
   lastSignInAt: string | null
+  /** False until an invitation is accepted. */
+  hasPassword: boolean
+  /** The latest invitation link still open (unused, not replaced), expired or not. */
+  invitation: { expiresAt: string, expired: boolean } | null
+  /** The latest message about this person (invitation, reset), with its delivery state. */
+  mail: MailState | null
+}
+
+export interface MailState {
+  id: number
+  kind: string
+  status: 'queued' | 'sent' | 'failed'
+  attempts: number
+  lastError: string | null
+  nextAttemptAt: string | null
+  sentAt: string | null
 }
 
 export interface AuditRow {

@@ -1,3 +1,4 @@
 // Nuxt auto-imports only top-level files of shared/utils; nested schema files are re-exported here.
 export * from './schemas/auth'
 export * from './schemas/listing'
+export * from './schemas/team'

@@ -13,17 +13,22 @@ export interface NavItem {
   to: string
   label: string
   roles: readonly Role[]
+  /** Where the link is shown: the main bar (default) or the signed-in user's menu. */
+  place?: 'main' | 'user-menu'
 }
 
 // One list drives both the navigation bar and the client route guard, so they cannot disagree.
 export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/', label: 'Home', roles: ROLES },
   { to: '/people', label: 'People', roles: ['admin'] },
-  { to: '/audit', label: 'Audit log', roles: ['admin'] }
+  { to: '/audit', label: 'Audit log', roles: ['admin'] },
+  { to: '/settings', label: 'Settings', roles: ['admin'] },
+  { to: '/outbox', label: 'Outbox', roles: ['admin'] },
+  { to: '/account', label: 'Password', roles: ROLES, place: 'user-menu' }
 ]
 
-/** Pages that anyone may open without signing in. */
-export const PUBLIC_PATHS: readonly string[] = ['/signin']
+/** Pages that anyone may open without signing in: sign-in, and the pages behind the links that mail carries. */
+export const PUBLIC_PATHS: readonly string[] = ['/signin', '/welcome', '/reset', '/forgot']
 
 export function canOpen(path: string, role: Role | undefined): boolean {
   if (PUBLIC_PATHS.includes(path)) return true
@@ -35,6 +40,6 @@ export function canOpen(path: string, role: Role | undefined): boolean {
   return item ? item.roles.includes(role) : false
 }
 
-export function navFor(role: Role): NavItem[] {
-  return NAV_ITEMS.filter(item => item.roles.includes(role))
+export function navFor(role: Role, place: 'main' | 'user-menu' = 'main'): NavItem[] {
+  return NAV_ITEMS.filter(item => item.roles.includes(role) && (item.place ?? 'main') === place)
 }

@@ -11,6 +11,15 @@ describe('client navigation mirrors the roles', () => {
     ['/peoplex', 'admin', false],
     ['/not-listed', 'admin', false],
     ['/signin', undefined, true],
+    ['/welcome', undefined, true],
+    ['/reset', undefined, true],
+    ['/forgot', undefined, true],
+    ['/settings', 'admin', true],
+    ['/settings', 'coordinator', false],
+    ['/outbox', 'admin', true],
+    ['/outbox', 'funder', false],
+    ['/account', 'enumerator', true],
+    ['/account', undefined, false],
     ['/', undefined, false]
   ] as const)('%s for %s → %s', (path, role, expected) => {
     expect(canOpen(path, role)).toBe(expected)
@@ -18,7 +27,14 @@ describe('client navigation mirrors the roles', () => {
 
   it('gives every role a home and only admins the people pages', () => {
     for (const role of ROLES) expect(navFor(role).map(n => n.to)).toContain('/')
-    expect(navFor('admin').map(n => n.to)).toEqual(['/', '/people', '/audit'])
+    expect(navFor('admin').map(n => n.to)).toEqual(['/', '/people', '/audit', '/settings', '/outbox'])
     expect(navFor('funder').map(n => n.to)).toEqual(['/'])
+  })
+
+  it('puts the own-password page in every role\'s user menu, not in the main bar', () => {
+    for (const role of ROLES) {
+      expect(navFor(role, 'user-menu').map(n => n.to)).toEqual(['/account'])
+      expect(navFor(role).map(n => n.to)).not.toContain('/account')
+    }
   })
 })

@@ -4,7 +4,7 @@ import { describe, expect, it } from 'vitest'
 
 // Deny by default, checked on the source: every API route file must declare who may call it.
 const API = path.resolve(__dirname, '../../server/api')
-const PUBLIC_ROUTES = ['auth/signin.post.ts', 'health.get.ts']
+const PUBLIC_ROUTES = ['auth/signin.post.ts', 'health.get.ts', 'auth/link.post.ts', 'auth/password.post.ts', 'auth/forgot.post.ts']
 // Answers 404 for every method on paths no route matches, so /api never falls through to the pages.
 const CATCH_ALL = '[...path].ts'
 
@@ -41,5 +41,12 @@ describe('API route files', () => {
     const middleware = readFileSync(path.resolve(API, '../middleware/02.deny-by-default.ts'), 'utf8')
     expect(middleware).toContain('\'POST /api/auth/signin\'')
     expect(middleware).toContain('\'GET /api/health\'')
+    for (const file of PUBLIC_ROUTES) {
+      const [, route, method] = /^(.*?)(?:\/index)?\.(get|post)\.ts$/.exec(file)!
+      expect(middleware).toContain(`'${method!.toUpperCase()} /api/${route}'`)
+    }
+    const listed = [...middleware.matchAll(/'(GET|POST) \/api\/([^']+)'/g)].map(m => m[2])
+    // Only the public route files and nuxt-auth-utils' own session read are open.
+    expect(listed.sort()).toEqual([...PUBLIC_ROUTES.map(f => f.replace(/\.(get|post)\.ts$/, '')), '_auth/session'].sort())
   })
 })

@@ -1,14 +1,28 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize'
 
+export interface FunderOrganisation {
+  name: string
+  /** Funder accounts whose e-mail ends in @domain belong to this funder organisation. */
+  emailDomain: string
+}
+
 export interface OrganisationSettings {
   /** Villages with fewer visits than this are hidden from funders (small-cell suppression). */
   minVisitsForFunders: number
   defaultClusterVariable: string
+  /** The funder organisations that may see published rounds; an empty list lets no funder see them. */
+  funderOrganisations: FunderOrganisation[]
 }
 
 export const DEFAULT_ORGANISATION_SETTINGS: OrganisationSettings = {
   minVisitsForFunders: 5,
-  defaultClusterVariable: 'village'
+  defaultClusterVariable: 'village',
+  funderOrganisations: []
+}
+
+/** Settings as stored, completed with the defaults of keys added after the row was written. */
+export function settingsOf(organisation: Organisation): OrganisationSettings {
+  return { ...DEFAULT_ORGANISATION_SETTINGS, ...organisation.settings }
 }
 
 export class Organisation extends Model<InferAttributes<Organisation>, InferCreationAttributes<Organisation>> {

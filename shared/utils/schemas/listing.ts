@@ -13,9 +13,19 @@ export const peopleQuerySchema = z.object({
 })
 export type PeopleQuery = z.infer<typeof peopleQuerySchema>
 
+const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD')
+  .refine((value) => {
+    const parsed = new Date(`${value}T00:00:00Z`)
+    return !Number.isNaN(parsed.getTime()) && parsed.toISOString().startsWith(value)
+  }, 'Use a real date as YYYY-MM-DD')
+  .optional()
+
 export const auditQuerySchema = z.object({
   action: z.string().trim().max(64).optional(),
   actor: z.string().trim().max(254).optional(),
+  entity: z.string().trim().max(64).optional(),
+  from: day,
+  to: day,
   page,
   pageSize
 })

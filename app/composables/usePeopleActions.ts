@@ -1,0 +1,48 @@
+import type { PersonRow } from '#shared/types/listing'
+import type { InvitationAnswer } from '#shared/types/team'
+import type { Role } from '#shared/utils/roles'
+
+/** What an admin does to people: invite, invite again, change a role, deactivate and reactivate. */
+export function usePeopleActions(refresh: () => Promise<unknown>) {
+  const notice = ref('')
+  const actionError = ref('')
+  const busyId = ref<number | 'invite' | null>(null)
+
+  async function run<T>(key: number | 'invite', action: () => Promise<T>, done: (result: T) => string): Promise<T | undefined> {
+    notice.value = ''
+    actionError.value = ''
+    busyId.value = key
+    try {
+      const result = await action()
+      notice.value = done(result)
+      await refresh()
+      return result
+    }
+    catch (error) {
+      actionError.value = problemOf(error).message
+      throw error
+    }
+    finally {
+      busyId.value = null
+    }
+  }
+
+  const invite = (input: { email: string, role: Role, name?: string }) => run('invite',
+    () => $fetch<InvitationAnswer>('/api/people/invitations', { method: 'POST', body: input }),
+    answer => answer.reinvited
+      ? `A new invitation is on its way to ${answer.email}; the earlier link no longer works.`
+      : `Invitation on its way to ${answer.email}.`)
+
+  const reinvite = (row: PersonRow) => run(row.id,
+    () => $fetch<InvitationAnswer>('/api/people/invitations', { method: 'POST', body: { email: row.email, role: row.role, name: row.name } }),
+    answer => `A new invitation is on its way to ${answer.email}; the earlier link no longer works.`).catch(() => undefined)
+
+  const update = (row: PersonRow, body: { role?: Role, active?: boolean }, done: string) => run(row.id,
+    () => $fetch(`/api/people/${row.id}`, { method: 'PATCH', body }),
+    () => done).catch(() => refresh())
+
+  const setRole = (row: PersonRow, role: Role) => update(row, { role }, `${row.name} is now ${ROLE_LABELS[role].toLowerCase()}.`)
+  const setActive = (row: PersonRow, active: boolean) => update(row, { active }, `${row.name} is ${active ? 'active again' : 'deactivated'}.`)
+
+  return { notice, actionError, busyId, invite, reinvite, setRole, setActive }
+}

@@ -1,0 +1,1 @@
+export default defineRoleHandler(['admin'], (_event, admin) => readOutbox(admin.organisationId))
