@@ -1,10 +1,12 @@
 // What the adoption map and the funder view receive: village aggregates only, never household records.
+import type { Geometry } from 'geojson'
+
 export interface MapVillage {
   code: string
   name: string
   lat: number
   lon: number
-  boundary: GeoJSON.Geometry | null
+  boundary: Geometry | null
   /** Visits behind the figures; null when the village is suppressed for having too few. */
   visits: number | null
   suppressed: boolean
