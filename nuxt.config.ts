@@ -29,6 +29,13 @@ export default defineNuxtConfig({
     '@fontsource/atkinson-hyperlegible/700.css',
     '@fontsource/ibm-plex-mono/400.css'
   ],
+  runtimeConfig: {
+    public: {
+      // Optional tile server for the adoption map (e.g. https://tiles.example.org/{z}/{x}/{y}.png); without it
+      // the map draws the Natural Earth outlines shipped with the app. Set NUXT_PUBLIC_MAP_TILE_URL.
+      mapTileUrl: ''
+    }
+  },
   compatibilityDate: '2026-11-01',
   nitro: {
     experimental: { tasks: false },
@@ -65,7 +72,9 @@ export default defineNuxtConfig({
     workbox: {
       navigateFallback: '/',
       navigateFallbackDenylist: [/^\/api\//],
-      globPatterns: ['**/*.{js,css,html,svg,png,woff,woff2}']
+      globPatterns: ['**/*.{js,css,html,svg,png,woff,woff2,json}'],
+      // The map's base layer (Natural Earth outlines, about 750 kB) must be there offline.
+      maximumFileSizeToCacheInBytes: 3 * 1024 * 1024
     },
     client: { installPrompt: true }
   },
