@@ -11,7 +11,17 @@ const configSchema = z.object({
   FURROWCAST_TRUST_PROXY: z.enum(['0', '1']).default('0'),
   SIGNIN_WINDOW_MINUTES: z.coerce.number().int().min(1).default(15),
   SIGNIN_MAX_FAILURES_PER_EMAIL: z.coerce.number().int().min(1).default(10),
-  SIGNIN_MAX_FAILURES_PER_IP: z.coerce.number().int().min(1).default(30)
+  SIGNIN_MAX_FAILURES_PER_IP: z.coerce.number().int().min(1).default(30),
+  // Object storage for visit photos (S3 API). Locally a fake S3 on loopback; in production a real bucket.
+  S3_ENDPOINT: z.string().url().optional(),
+  S3_BUCKET: z.string().min(3).default('furrowcast-photos'),
+  S3_ACCESS_KEY_ID: z.string().default('S3RVER'),
+  S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
+  S3_REGION: z.string().default('us-east-1'),
+  PHOTO_MAX_BYTES: z.coerce.number().int().min(1024).default(3 * 1024 * 1024),
+  // Quality flags on visits.
+  FIELD_FAR_RADIUS_KM: z.coerce.number().positive().default(5),
+  FIELD_MIN_INTERVIEW_SECONDS: z.coerce.number().int().min(0).default(180)
 })
 
 export type ServerConfig = z.infer<typeof configSchema>
