@@ -1,19 +1,41 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { User } from '../../server/db/models'
+import { Round, User, Visit } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { type Client, DEMO, demoUser, freshClient } from '../support/server'
 
 // Every protected route, and which roles it opens to. Adding a route means adding it here.
-const ROUTES: Array<{ method: 'GET' | 'POST', path: string, roles: string[] }> = [
+// `ok` is what an allowed role gets when calling without a body (400: the role passed, the input did not).
+// :round and :visit stand for the demo round and one of its visits; :uuid for an id nothing has.
+const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH', path: string, roles: string[], ok?: number }> = [
   { method: 'GET', path: '/api/me', roles: ['admin', 'coordinator', 'enumerator', 'funder'] },
   { method: 'GET', path: '/api/people', roles: ['admin'] },
-  { method: 'GET', path: '/api/audit', roles: ['admin'] }
+  { method: 'GET', path: '/api/audit', roles: ['admin'] },
+  { method: 'GET', path: '/api/field/setup', roles: ['enumerator'] },
+  { method: 'GET', path: '/api/sync/visits', roles: ['enumerator'] },
+  { method: 'POST', path: '/api/sync/visits', roles: ['enumerator'], ok: 400 },
+  { method: 'PUT', path: '/api/photos/:uuid', roles: ['enumerator'], ok: 400 },
+  { method: 'GET', path: '/api/rounds', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/rounds', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/rounds/:round', roles: ['coordinator'] },
+  { method: 'PATCH', path: '/api/rounds/:round', roles: ['coordinator'], ok: 400 },
+  { method: 'PUT', path: '/api/rounds/:round/questionnaire', roles: ['coordinator'], ok: 400 },
+  { method: 'PUT', path: '/api/rounds/:round/villages', roles: ['coordinator'], ok: 400 },
+  { method: 'PUT', path: '/api/rounds/:round/assignments', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/villages', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/villages', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/review/visits', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/review/visits/:visit', roles: ['coordinator'], ok: 400 }
 ]
+const placeholders: Record<string, string> = { ':uuid': '00000000-0000-4000-8000-000000000000' }
+const resolve = (path: string) => path.replace(/:[a-z]+/g, p => placeholders[p] ?? p)
 
 const clients = new Map<string, Client>()
 
 beforeAll(async () => {
   testDatabase()
+  const demoRound = await Round.findOne({ where: { status: 'open' }, order: [['id', 'ASC']] })
+  placeholders[':round'] = String(demoRound!.id)
+  placeholders[':visit'] = (await Visit.findOne({ where: { roundId: demoRound!.id } }))!.id
   for (const user of DEMO.users) {
     const client = freshClient()
     await client.signIn(user.email)
@@ -25,15 +47,15 @@ afterAll(closeTestDatabase)
 describe('every route checks the role on the server', () => {
   for (const route of ROUTES) {
     it(`${route.method} ${route.path} without a session answers 401`, async () => {
-      const answer = await freshClient().request(route.method, route.path)
+      const answer = await freshClient().request(route.method, resolve(route.path))
       expect(answer.status).toBe(401)
       expect(answer.body).toMatchObject({ message: 'Sign in to continue.' })
     })
     for (const user of DEMO.users) {
       const allowed = route.roles.includes(user.role)
-      it(`${route.method} ${route.path} as ${user.role} answers ${allowed ? 200 : 403}`, async () => {
-        const answer = await clients.get(user.role)!.request(route.method, route.path)
-        expect(answer.status).toBe(allowed ? 200 : 403)
+      it(`${route.method} ${route.path} as ${user.role} answers ${allowed ? route.ok ?? 200 : 403}`, async () => {
+        const answer = await clients.get(user.role)!.request(route.method, resolve(route.path))
+        expect(answer.status).toBe(allowed ? route.ok ?? 200 : 403)
         if (!allowed) expect(answer.body.message).toBe('Your role does not allow this.')
       })
     }
