@@ -25,3 +25,11 @@ export async function storePhoto(actor: Actor, photo: { id: string, visitId: str
   await Photo.update({ status: 'stored' }, { where: { id: photo.id } })
   return { id: photo.id, status: 'stored' as const }
 }
+
+/** A stored photo of a visit of this organisation, or 404 (also for another organisation's photo). */
+export async function storedPhotoFor(organisationId: number, id: string) {
+  const photo = await Photo.findOne({ where: { id, status: 'stored' } })
+  const visit = photo ? await Visit.findOne({ where: { id: photo.visitId, organisationId }, attributes: ['id'] }) : null
+  if (!photo || !visit) throw createError({ statusCode: 404, message: 'No such photo.' })
+  return photo
+}

@@ -38,11 +38,11 @@ export async function listReviewVisits(organisationId: number, q: ReviewQuery): 
     limit: q.pageSize,
     offset: (q.page - 1) * q.pageSize
   })
-  const photos = await Photo.findAll({ where: { visitId: rows.map(r => r.id), status: 'stored' }, attributes: ['visitId'] })
-  return { items: rows.map(v => reviewRowOf(v, photos.filter(p => p.visitId === v.id).length)), total: count, page: q.page, pageSize: q.pageSize }
+  const photos = await Photo.findAll({ where: { visitId: rows.map(r => r.id), status: 'stored' }, attributes: ['id', 'visitId'], order: [['createdAt', 'ASC']] })
+  return { items: rows.map(v => reviewRowOf(v, photos.filter(p => p.visitId === v.id).map(p => p.id))), total: count, page: q.page, pageSize: q.pageSize }
 }
 
-function reviewRowOf(v: Visit, photoCount: number): ReviewRow {
+function reviewRowOf(v: Visit, photoIds: string[]): ReviewRow {
   const joined = v as Visit & { village?: Village, enumerator?: User }
   return {
     id: v.id,
@@ -63,7 +63,7 @@ function reviewRowOf(v: Visit, photoCount: number): ReviewRow {
     accuracyM: v.accuracyM,
     manualLocationReason: v.manualLocationReason,
     version: v.version,
-    photoCount
+    photoIds
   }
 }
 

@@ -74,5 +74,5 @@ export interface ReviewRow {
   accuracyM: number | null
   manualLocationReason: string | null
   version: number
-  photoCount: number
+  photoIds: string[]
 }

@@ -24,7 +24,8 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH', path: string, ro
   { method: 'GET', path: '/api/villages', roles: ['coordinator'] },
   { method: 'POST', path: '/api/villages', roles: ['coordinator'], ok: 400 },
   { method: 'GET', path: '/api/review/visits', roles: ['coordinator'] },
-  { method: 'POST', path: '/api/review/visits/:visit', roles: ['coordinator'], ok: 400 }
+  { method: 'POST', path: '/api/review/visits/:visit', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/review/photos/:uuid', roles: ['coordinator'], ok: 404 }
 ]
 const placeholders: Record<string, string> = { ':uuid': '00000000-0000-4000-8000-000000000000' }
 const resolve = (path: string) => path.replace(/:[a-z]+/g, p => placeholders[p] ?? p)

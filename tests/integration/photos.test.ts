@@ -47,6 +47,16 @@ describe('photos', () => {
     expect(await objectSize(row!.objectKey)).toBe(50_000)
     expect(await keysUnder('incoming/')).toEqual([])
     expect(await (await put(id, bytes)).json()).toEqual({ id, status: 'duplicate' })
+
+    // The coordinator sees it with its visit, and can fetch the same bytes back.
+    const coordinator = freshClient()
+    await coordinator.signIn(demoUser('coordinator').email)
+    const review = await coordinator.get<{ items: Array<{ id: string, photoIds: string[] }> }>(`/api/review/visits?roundId=${round.roundId}`)
+    expect(review.body.items.find(v => v.id === visitId)!.photoIds).toContain(id)
+    const back = await fetch(`${baseUrl()}/api/review/photos/${id}`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.8.8.7' } })
+    expect(back.status).toBe(200)
+    expect(back.headers.get('content-type')).toBe('image/jpeg')
+    expect(Buffer.from(await back.arrayBuffer()).equals(bytes)).toBe(true)
   })
 
   it('answers 413 to an oversized photo and stores nothing', async () => {
