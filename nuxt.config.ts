@@ -1,6 +1,9 @@
 import path from 'node:path'
 import { bundleFitWorker } from './scripts/lib/bundle-fit-worker.mjs'
 
+// Changes with every build, so that a new deployment's tablet shell replaces the precached one.
+const BUILD_ID = String(Date.now())
+
 // Furrowcast: one Nuxt 4 app serving the tablet (offline PWA), the coordinator's workspace and the funder view.
 export default defineNuxtConfig({
   modules: [
@@ -36,6 +39,11 @@ export default defineNuxtConfig({
       mapTileUrl: ''
     }
   },
+  // The tablet pages render in the browser only, so the service worker can serve one precached shell for them offline.
+  routeRules: {
+    '/field': { ssr: false },
+    '/field/**': { ssr: false }
+  },
   compatibilityDate: '2026-11-01',
   nitro: {
     experimental: { tasks: false },
@@ -67,11 +75,15 @@ export default defineNuxtConfig({
       theme_color: '#1f3b2d',
       background_color: '#f7f4ea',
       display: 'standalone',
-      start_url: '/'
+      start_url: '/field'
     },
     workbox: {
-      navigateFallback: '/',
+      // The client-rendered shell of the tablet pages is precached with the build's assets; any /field page
+      // opened with no network is served from it (other pages need the server and are not offered offline).
+      navigateFallback: '/field',
+      navigateFallbackAllowlist: [/^\/field(\/|\?|$)/],
       navigateFallbackDenylist: [/^\/api\//],
+      additionalManifestEntries: [{ url: '/field', revision: BUILD_ID }],
       globPatterns: ['**/*.{js,css,html,svg,png,woff,woff2,json}'],
       // The map's base layer (Natural Earth outlines, about 750 kB) must be there offline.
       maximumFileSizeToCacheInBytes: 3 * 1024 * 1024

@@ -12,13 +12,15 @@ export default defineConfig({
     projects: [
       {
         resolve: { alias },
-        test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node' }
+        test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node', sequence: { groupOrder: 0 } }
       },
       {
         resolve: { alias },
         test: {
           name: 'integration',
           include: ['tests/integration/**/*.test.ts'],
+          // Integration tests lock demo e-mails on purpose (sign-in limits); browser tests run after them, not alongside.
+          sequence: { groupOrder: 1 },
           environment: 'node',
           testTimeout: 30_000,
           // One server and one database: files run one after another so counts and limits stay predictable.
@@ -30,6 +32,7 @@ export default defineConfig({
         test: {
           name: 'e2e',
           include: ['tests/e2e/**/*.test.ts'],
+          sequence: { groupOrder: 2 },
           environment: 'node',
           testTimeout: 60_000,
           hookTimeout: 60_000,

@@ -9,6 +9,8 @@ const stack = await startStack({
   database: 'furrowcast',
   appPort,
   smtpPort: Number(process.env.FURROWCAST_SMTP_PORT ?? 2525),
+  s3Port: Number(process.env.FURROWCAST_S3_PORT ?? 4568),
+  objectDir: path.join(DATA, 'objects'),
   outbox: path.join(DATA, 'outbox'),
   seed: process.env.FURROWCAST_SEED ?? 'demo',
   fresh: false,
@@ -22,7 +24,7 @@ console.log(`
   Demo sign-ins (password for all: ${demo.password}):
 ${demo.users.map(u => `    ${u.role.padEnd(12)} ${u.email}`).join('\n')}
 
-  Mail sent by the app is kept in .data/outbox. Press Ctrl-C to stop.
+  Mail sent by the app is kept in .data/outbox, photos in .data/objects. Press Ctrl-C to stop.
 `)
 
 // Ctrl-C is handled by startStack; here only the case of the app server dying on its own.

@@ -31,6 +31,8 @@ const stack = await startStack({
   database,
   appPort,
   smtpPort: Number(process.env.FURROWCAST_TEST_SMTP_PORT ?? 2526),
+  s3Port: Number(process.env.FURROWCAST_TEST_S3_PORT ?? 4569),
+  objectDir: path.join(DATA, database, 'objects'),
   outbox,
   seed: 'demo',
   fresh: true,
@@ -44,6 +46,8 @@ stage('unit, integration and browser tests (vitest)', 'npx', ['vitest', 'run'], 
   FURROWCAST_TEST_URL: stack.url,
   DATABASE_URL: stack.env.DATABASE_URL,
   OUTBOX_DIR: outbox,
+  S3_ENDPOINT: stack.env.S3_ENDPOINT,
+  S3_BUCKET: stack.env.S3_BUCKET,
   NUXT_SESSION_PASSWORD: stack.env.NUXT_SESSION_PASSWORD
 })
 

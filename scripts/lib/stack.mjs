@@ -1,4 +1,4 @@
-// Brings up what the app needs on loopback (database, mail catcher), then the built server.
+// Brings up what the app needs on loopback (database, mail catcher, object store), then the built server.
 // Used by both `npm start` and `npm test`, each with its own database, ports and outbox.
 import { rmSync } from 'node:fs'
 import path from 'node:path'
@@ -11,7 +11,7 @@ import { DATA, ROOT, canConnect, ensureNodeModules, fail, requireFreePort, say, 
  * Starts everything in order. Ctrl-C (SIGINT) or SIGTERM at any moment, during start-up or later, stops
  * what was started in reverse order (the database last, after it has flushed) and exits with `exitCode`.
  */
-export async function startStack({ database, appPort, smtpPort, outbox, seed, fresh, secretFile, extraEnv = {} }) {
+export async function startStack({ database, appPort, smtpPort, s3Port, objectDir, outbox, seed, fresh, secretFile, extraEnv = {} }) {
   const stoppers = []
   let stopping
   const stop = () => {
@@ -51,6 +51,17 @@ export async function startStack({ database, appPort, smtpPort, outbox, seed, fr
       smtpUrl = `smtp://127.0.0.1:${smtpPort}`
     }
 
+    let s3Endpoint = process.env.S3_ENDPOINT
+    const s3Bucket = process.env.S3_BUCKET ?? 'furrowcast-photos'
+    if (!s3Endpoint) {
+      await requireFreePort(s3Port, 'the local object store', 'FURROWCAST_S3_PORT / FURROWCAST_TEST_S3_PORT')
+      if (fresh) rmSync(objectDir, { recursive: true, force: true })
+      const store = startChild('s3', process.execPath, [path.join(ROOT, 'scripts/services/object-store.mjs'), String(s3Port), objectDir, s3Bucket])
+      stoppers.push(() => store.stopGracefully())
+      await waitFor(() => canConnect(s3Port), 'the object store', 15_000)
+      s3Endpoint = `http://127.0.0.1:${s3Port}`
+    }
+
     ensureBuild()
 
     const env = {
@@ -61,6 +72,8 @@ export async function startStack({ database, appPort, smtpPort, outbox, seed, fr
       DATABASE_URL: databaseUrl,
       SMTP_URL: smtpUrl,
       OUTBOX_DIR: outbox,
+      S3_ENDPOINT: s3Endpoint,
+      S3_BUCKET: s3Bucket,
       PUBLIC_URL: process.env.PUBLIC_URL ?? `http://127.0.0.1:${appPort}`,
       NUXT_SESSION_PASSWORD: sessionSecret(secretFile),
       FURROWCAST_SEED: seed,

@@ -22,7 +22,17 @@ const configSchema = z.object({
   RESET_MAX_PER_EMAIL: z.coerce.number().int().min(1).default(3),
   // How often queued mail is retried (0: only right after each change); attempts before a message fails.
   MAIL_RETRY_SECONDS: z.coerce.number().int().min(0).default(30),
-  MAIL_MAX_ATTEMPTS: z.coerce.number().int().min(1).max(50).default(8)
+  MAIL_MAX_ATTEMPTS: z.coerce.number().int().min(1).max(50).default(8),
+  // Object storage for visit photos (S3 API). Locally a fake S3 on loopback; in production a real bucket.
+  S3_ENDPOINT: z.string().url().optional(),
+  S3_BUCKET: z.string().min(3).default('furrowcast-photos'),
+  S3_ACCESS_KEY_ID: z.string().default('S3RVER'),
+  S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
+  S3_REGION: z.string().default('us-east-1'),
+  PHOTO_MAX_BYTES: z.coerce.number().int().min(1024).default(3 * 1024 * 1024),
+  // Quality flags on visits.
+  FIELD_FAR_RADIUS_KM: z.coerce.number().positive().default(5),
+  FIELD_MIN_INTERVIEW_SECONDS: z.coerce.number().int().min(0).default(180)
 })
 
 export type ServerConfig = z.infer<typeof configSchema>

@@ -1,6 +1,7 @@
 import { database } from '../db/connection'
 import { migrateUp } from '../db/migrator'
 import { seedDemo } from '../db/seed'
+import { seedDemoField } from '../db/demo/seed-field'
 
 let ready: Promise<void> | undefined
 
@@ -12,6 +13,9 @@ export function databaseReady(): Promise<void> {
     const applied = await migrateUp(sequelize, async () => {
       if (serverConfig().FURROWCAST_SEED === 'demo' && await seedDemo(sequelize, hashPassword)) {
         console.info('[furrowcast] demo organisation seeded')
+      }
+      if (serverConfig().FURROWCAST_SEED === 'demo' && await seedDemoField(sequelize)) {
+        console.info('[furrowcast] demo district, round and visits seeded')
       }
     })
     if (applied.length) console.info(`[furrowcast] migrations applied: ${applied.join(', ')}`)

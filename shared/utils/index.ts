@@ -2,3 +2,7 @@
 export * from './schemas/auth'
 export * from './schemas/listing'
 export * from './schemas/team'
+export * from './schemas/questionnaire'
+export * from './schemas/visit'
+export * from './schemas/round'
+export * from './schemas/review'

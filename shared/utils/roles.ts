@@ -20,6 +20,9 @@ export interface NavItem {
 // One list drives both the navigation bar and the client route guard, so they cannot disagree.
 export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/', label: 'Home', roles: ROLES },
+  { to: '/field', label: 'Field work', roles: ['enumerator'] },
+  { to: '/rounds', label: 'Rounds', roles: ['coordinator'] },
+  { to: '/review', label: 'Review', roles: ['coordinator'] },
   { to: '/people', label: 'People', roles: ['admin'] },
   { to: '/audit', label: 'Audit log', roles: ['admin'] },
   { to: '/settings', label: 'Settings', roles: ['admin'] },

@@ -14,8 +14,8 @@ afterAll(closeBrowser)
 
 const EXPECTED_NAV: Record<string, string[]> = {
   admin: ['Home', 'People', 'Audit log', 'Settings', 'Outbox'],
-  coordinator: ['Home'],
-  enumerator: ['Home'],
+  coordinator: ['Home', 'Rounds', 'Review'],
+  enumerator: ['Home', 'Field work'],
   funder: ['Home']
 }
 

@@ -1,20 +1,52 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { User } from '../../server/db/models'
+import { Round, User, Visit } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { type Client, DEMO, demoUser, freshClient } from '../support/server'
 
-// Every protected route, and which roles it opens to. Adding a route means adding it here. A route that
-// needs a body answers `allowed` (400) to a permitted role that sends none: the role check comes first.
-const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH', path: string, roles: string[], allowed?: number }> = [
+// Every protected route, and which roles it opens to. Adding a route means adding it here.
+// `ok` is what an allowed role gets when calling without a body (400: the role passed, the input did not).
+// :round and :visit stand for the demo round and one of its visits; :uuid for an id nothing has.
+const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path: string, roles: string[], ok?: number }> = [
   { method: 'GET', path: '/api/me', roles: ['admin', 'coordinator', 'enumerator', 'funder'] },
-  { method: 'POST', path: '/api/me/password', roles: ['admin', 'coordinator', 'enumerator', 'funder'], allowed: 400 },
+  { method: 'POST', path: '/api/me/password', roles: ['admin', 'coordinator', 'enumerator', 'funder'], ok: 400 },
   { method: 'GET', path: '/api/people', roles: ['admin'] },
-  { method: 'POST', path: '/api/people/invitations', roles: ['admin'], allowed: 400 },
-  { method: 'PATCH', path: '/api/people/1', roles: ['admin'], allowed: 400 },
+  { method: 'POST', path: '/api/people/invitations', roles: ['admin'], ok: 400 },
+  { method: 'PATCH', path: '/api/people/1', roles: ['admin'], ok: 400 },
   { method: 'GET', path: '/api/audit', roles: ['admin'] },
   { method: 'GET', path: '/api/settings', roles: ['admin'] },
-  { method: 'PUT', path: '/api/settings', roles: ['admin'], allowed: 400 },
-  { method: 'GET', path: '/api/outbox', roles: ['admin'] }
+  { method: 'PUT', path: '/api/settings', roles: ['admin'], ok: 400 },
+  { method: 'GET', path: '/api/outbox', roles: ['admin'] },
+  { method: 'GET', path: '/api/field/setup', roles: ['enumerator'] },
+  { method: 'GET', path: '/api/sync/visits', roles: ['enumerator'] },
+  { method: 'POST', path: '/api/sync/visits', roles: ['enumerator'], ok: 400 },
+  { method: 'PUT', path: '/api/photos/:uuid', roles: ['enumerator'], ok: 400 },
+  { method: 'GET', path: '/api/rounds', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/rounds', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/rounds/:round', roles: ['coordinator'] },
+  { method: 'PATCH', path: '/api/rounds/:round', roles: ['coordinator'], ok: 400 },
+  { method: 'PUT', path: '/api/rounds/:round/questionnaire', roles: ['coordinator'], ok: 400 },
+  { method: 'PUT', path: '/api/rounds/:round/villages', roles: ['coordinator'], ok: 400 },
+  { method: 'PUT', path: '/api/rounds/:round/assignments', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/villages', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/villages', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/review/visits', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/review/visits/:visit', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/review/photos/:uuid', roles: ['coordinator'], ok: 404 },
+  { method: 'GET', path: '/api/models?roundId=:round', roles: ['coordinator'] },
+  { method: 'POST', path: '/api/models', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/models/preview', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/models/questions?roundId=:round', roles: ['coordinator'] },
+  { method: 'GET', path: '/api/models/compare?ids=999998,999999', roles: ['coordinator'], ok: 404 },
+  { method: 'GET', path: '/api/models/999999', roles: ['coordinator'], ok: 404 },
+  { method: 'POST', path: '/api/models/999999/rerun', roles: ['coordinator'], ok: 404 },
+  { method: 'POST', path: '/api/models/999999/scenarios', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/models/999999/publish', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/models/999999/export', roles: ['coordinator'], ok: 404 },
+  { method: 'GET', path: '/api/publications?roundId=:round', roles: ['coordinator'] },
+  { method: 'DELETE', path: '/api/publications/999999', roles: ['coordinator'], ok: 404 },
+  { method: 'GET', path: '/api/overview', roles: ['funder', 'coordinator'] },
+  { method: 'GET', path: '/api/overview/999999', roles: ['funder', 'coordinator'], ok: 404 },
+  { method: 'GET', path: '/api/field/model?roundId=:round', roles: ['enumerator'] }
 ]
 
 // Public routes answer without a session (here 400 to an empty body), never 401.
@@ -23,11 +55,16 @@ const PUBLIC: Array<{ method: 'POST', path: string }> = [
   { method: 'POST', path: '/api/auth/password' },
   { method: 'POST', path: '/api/auth/forgot' }
 ]
+const placeholders: Record<string, string> = { ':uuid': '00000000-0000-4000-8000-000000000000' }
+const resolve = (path: string) => path.replace(/:[a-z]+/g, p => placeholders[p] ?? p)
 
 const clients = new Map<string, Client>()
 
 beforeAll(async () => {
   testDatabase()
+  const demoRound = await Round.findOne({ where: { status: 'open' }, order: [['id', 'ASC']] })
+  placeholders[':round'] = String(demoRound!.id)
+  placeholders[':visit'] = (await Visit.findOne({ where: { roundId: demoRound!.id } }))!.id
   for (const user of DEMO.users) {
     const client = freshClient()
     await client.signIn(user.email)
@@ -39,16 +76,15 @@ afterAll(closeTestDatabase)
 describe('every route checks the role on the server', () => {
   for (const route of ROUTES) {
     it(`${route.method} ${route.path} without a session answers 401`, async () => {
-      const answer = await freshClient().request(route.method, route.path)
+      const answer = await freshClient().request(route.method, resolve(route.path))
       expect(answer.status).toBe(401)
       expect(answer.body).toMatchObject({ message: 'Sign in to continue.' })
     })
     for (const user of DEMO.users) {
       const allowed = route.roles.includes(user.role)
-      const expected = allowed ? route.allowed ?? 200 : 403
-      it(`${route.method} ${route.path} as ${user.role} answers ${expected}`, async () => {
-        const answer = await clients.get(user.role)!.request(route.method, route.path)
-        expect(answer.status).toBe(expected)
+      it(`${route.method} ${route.path} as ${user.role} answers ${allowed ? route.ok ?? 200 : 403}`, async () => {
+        const answer = await clients.get(user.role)!.request(route.method, resolve(route.path))
+        expect(answer.status).toBe(allowed ? route.ok ?? 200 : 403)
         if (!allowed) expect(answer.body.message).toBe('Your role does not allow this.')
       })
     }

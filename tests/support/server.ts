@@ -16,13 +16,18 @@ export interface Answer<T = unknown> {
 export class Client {
   private cookies = new Map<string, string>()
 
-  constructor(private readonly ip: string) {}
+  constructor(private readonly ip: string, private readonly url: string = baseUrl()) {}
+
+  /** The Cookie header this client would send (for tests that talk HTTP without this class). */
+  cookieHeader(): string {
+    return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
+  }
 
   async request<T = Record<string, unknown>>(method: string, path: string, body?: unknown, rawBody?: string): Promise<Answer<T>> {
     const headers: Record<string, string> = { 'x-forwarded-for': this.ip, 'accept': 'application/json' }
     if (this.cookies.size) headers.cookie = [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
     if (body !== undefined || rawBody !== undefined) headers['content-type'] = 'application/json'
-    const response = await fetch(`${baseUrl()}${path}`, {
+    const response = await fetch(`${this.url}${path}`, {
       method,
       headers,
       body: rawBody ?? (body === undefined ? undefined : JSON.stringify(body)),

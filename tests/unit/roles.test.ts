@@ -20,7 +20,15 @@ describe('client navigation mirrors the roles', () => {
     ['/outbox', 'funder', false],
     ['/account', 'enumerator', true],
     ['/account', undefined, false],
-    ['/', undefined, false]
+    ['/', undefined, false],
+    ['/field', 'enumerator', true],
+    ['/field/visit', 'enumerator', true],
+    ['/field', 'coordinator', false],
+    ['/rounds', 'coordinator', true],
+    ['/rounds/3', 'coordinator', true],
+    ['/rounds', 'enumerator', false],
+    ['/review', 'coordinator', true],
+    ['/review', 'funder', false]
   ] as const)('%s for %s → %s', (path, role, expected) => {
     expect(canOpen(path, role)).toBe(expected)
   })
@@ -29,6 +37,8 @@ describe('client navigation mirrors the roles', () => {
     for (const role of ROLES) expect(navFor(role).map(n => n.to)).toContain('/')
     expect(navFor('admin').map(n => n.to)).toEqual(['/', '/people', '/audit', '/settings', '/outbox'])
     expect(navFor('funder').map(n => n.to)).toEqual(['/'])
+    expect(navFor('enumerator').map(n => n.to)).toEqual(['/', '/field'])
+    expect(navFor('coordinator').map(n => n.to)).toEqual(['/', '/rounds', '/review'])
   })
 
   it('puts the own-password page in every role\'s user menu, not in the main bar', () => {

@@ -1,14 +1,22 @@
 import type { Sequelize } from 'sequelize'
+import { Assignment } from './assignment'
 import { AuditEntry } from './audit-entry'
 import { MAIL_STATUSES, MailMessage, type MailStatus } from './mail-message'
 import { DEFAULT_ORGANISATION_SETTINGS, Organisation, settingsOf, type FunderOrganisation, type OrganisationSettings } from './organisation'
+import { Photo } from './photo'
+import { QuestionnaireVersion } from './questionnaire-version'
 import { RateEvent } from './rate-event'
+import { ROUND_STATUSES, Round, type RoundStatus } from './round'
+import { RoundVillage } from './round-village'
 import { SignInAttempt } from './sign-in-attempt'
 import { User } from './user'
 import { TOKEN_PURPOSES, UserToken, type TokenPurpose } from './user-token'
+import { Village } from './village'
+import { REVIEW_STATES, Visit, type ReviewState, type VisitFlags } from './visit'
 
 export { AuditEntry, DEFAULT_ORGANISATION_SETTINGS, MAIL_STATUSES, MailMessage, Organisation, RateEvent, SignInAttempt, TOKEN_PURPOSES, User, UserToken, settingsOf }
-export type { FunderOrganisation, MailStatus, OrganisationSettings, TokenPurpose }
+export { Assignment, Photo, QuestionnaireVersion, REVIEW_STATES, ROUND_STATUSES, Round, RoundVillage, Village, Visit }
+export type { FunderOrganisation, MailStatus, OrganisationSettings, ReviewState, RoundStatus, TokenPurpose, VisitFlags }
 
 export function initModels(sequelize: Sequelize): void {
   Organisation.initModel(sequelize)
@@ -22,4 +30,14 @@ export function initModels(sequelize: Sequelize): void {
   User.belongsTo(Organisation, { foreignKey: 'organisationId', as: 'organisation' })
   User.hasMany(UserToken, { foreignKey: 'userId', as: 'tokens' })
   UserToken.belongsTo(User, { foreignKey: 'userId', as: 'user' })
+
+  Village.initModel(sequelize)
+  Round.initModel(sequelize)
+  QuestionnaireVersion.initModel(sequelize)
+  RoundVillage.initModel(sequelize)
+  Assignment.initModel(sequelize)
+  Visit.initModel(sequelize)
+  Photo.initModel(sequelize)
+  Visit.belongsTo(Village, { foreignKey: 'villageId', as: 'village' })
+  Visit.belongsTo(User, { foreignKey: 'enumeratorId', as: 'enumerator' })
 }

@@ -1,0 +1,149 @@
+import type { QuestionnaireVersionDto } from '#shared/utils/schemas/questionnaire'
+import { type LocalVisit, fieldDb } from '~/utils/field-db'
+import { resizePhoto, sha256Hex } from '~/utils/photo-resize'
+import { payloadOf } from '~/utils/sync-engine'
+
+const EDITABLE = ['draft', 'queued', 'rejected', 'sent_back', 'conflict']
+
+/**
+ * One visit being written on the tablet. Every change is saved to the device as it is typed (a draft);
+ * "Save visit" checks it with the questionnaire version's own schema and queues it for sync.
+ */
+export function useVisitForm() {
+  const route = useRoute()
+  const router = useRouter()
+  const { user } = useUserSession()
+  const sync = useFieldSyncStore()
+  const visit = ref<LocalVisit | null>(null)
+  const version = ref<QuestionnaireVersionDto | null>(null)
+  const errors = ref<FieldErrors>({})
+  const notFound = ref(false)
+  const saving = ref(false)
+  const readOnly = computed(() => !visit.value || !EDITABLE.includes(visit.value.state))
+  let db: ReturnType<typeof fieldDb>
+  let saveTimer: ReturnType<typeof setTimeout> | undefined
+  /** Typed but not yet written to the device. */
+  let dirty = false
+
+  async function load() {
+    if (!user.value) return
+    db = fieldDb(user.value.id)
+    const setup = await db.setup()
+    let id = typeof route.query.id === 'string' ? route.query.id : null
+    if (!id) {
+      const round = setup?.rounds.find(r => r.id === Number(route.query.round))
+      if (!round) {
+        notFound.value = true
+        return
+      }
+      const village = Number(route.query.village)
+      const now = new Date().toISOString()
+      id = crypto.randomUUID()
+      await db.visits.add({
+        id, roundId: round.id, villageId: round.villageIds.includes(village) ? village : null, questionnaireVersionId: round.currentVersionId,
+        farmCode: '', location: null, answers: {}, consent: false, consentAt: null, startedAt: now, savedAt: null, baseVersion: 0,
+        state: 'draft', reviewState: null, reviewReason: null, errors: null, serverCopy: null, updatedAt: now, syncedAt: null
+      })
+      await router.replace({ query: { id } })
+    }
+    const found = await db.visits.get(id)
+    version.value = setup?.questionnaires.find(q => q.id === found?.questionnaireVersionId) ?? null
+    if (!found || !version.value) {
+      notFound.value = true
+      return
+    }
+    visit.value = found
+    errors.value = found.errors ?? {}
+  }
+
+  // Drafts save themselves: a short pause after the last change writes the whole form to the device.
+  const typed = computed(() => {
+    const v = visit.value
+    return v ? JSON.stringify([v.farmCode, v.villageId, v.location, v.answers, v.consent, v.consentAt]) : null
+  })
+  watch(typed, (now, before) => {
+    if (now === null || before === null || before === undefined || readOnly.value) return
+    dirty = true
+    clearTimeout(saveTimer)
+    saveTimer = setTimeout(() => void persist(), 300)
+  })
+
+  async function persist(extra: Partial<LocalVisit> = {}) {
+    if (!visit.value) return
+    dirty = false
+    const v = visit.value
+    // An edit of a queued visit takes it out of the queue until it is saved again.
+    const state = extra.state ?? (v.state === 'queued' ? 'draft' : v.state)
+    const plain = JSON.parse(JSON.stringify({ ...v, ...extra, state, updatedAt: new Date().toISOString() })) as LocalVisit
+    await db.visits.put(plain)
+    v.state = plain.state
+    v.updatedAt = plain.updatedAt
+  }
+
+  function setConsent(given: boolean) {
+    if (!visit.value) return
+    visit.value.consent = given
+    visit.value.consentAt = given ? new Date().toISOString() : null
+  }
+
+  async function addPhotos(files: FileList | File[]) {
+    if (!visit.value) return
+    for (const file of Array.from(files)) {
+      const blob = await resizePhoto(file)
+      await db.photos.add({ id: crypto.randomUUID(), visitId: visit.value.id, blob, contentType: 'image/jpeg', size: blob.size, sha256: await sha256Hex(blob), state: 'waiting', createdAt: new Date().toISOString() })
+    }
+  }
+
+  async function removePhoto(id: string) {
+    await db.photos.where({ id, state: 'waiting' }).delete()
+  }
+
+  /** Checks the visit with the same schema the server uses; queues it only if it passes. */
+  async function save(): Promise<boolean> {
+    if (!visit.value || !version.value) return false
+    clearTimeout(saveTimer)
+    dirty = false
+    const savedAt = new Date().toISOString()
+    const candidate = { ...payloadOf(visit.value), savedAt }
+    const parsed = visitSchemaFor(version.value).safeParse(candidate)
+    errors.value = parsed.success ? {} : fieldErrorsOf(parsed.error)
+    if (!parsed.success) {
+      await persist()
+      return false
+    }
+    saving.value = true
+    try {
+      await persist({ state: 'queued', savedAt, errors: null, serverCopy: null })
+      void sync.syncNow()
+      return true
+    }
+    finally {
+      saving.value = false
+    }
+  }
+
+  /** On a conflict: take the server's copy (it won) and drop the device's edit. */
+  async function keepServerCopy() {
+    const server = visit.value?.serverCopy
+    if (!visit.value || !server) return
+    await db.visits.update(visit.value.id, { answers: server.answers, farmCode: server.farmCode, baseVersion: server.version, state: server.reviewState === 'sent_back' ? 'sent_back' : 'synced', reviewState: server.reviewState, reviewReason: server.reviewReason, serverCopy: null, errors: null, updatedAt: new Date().toISOString() })
+    await load()
+  }
+
+  /** On a conflict: resend the device's answers on top of the server's version (a new edit of it). */
+  async function resendOnTop() {
+    const server = visit.value?.serverCopy
+    if (!visit.value || !server) return
+    visit.value.baseVersion = server.version
+    visit.value.state = 'draft'
+    await save()
+  }
+
+  onMounted(load)
+  onBeforeUnmount(() => {
+    clearTimeout(saveTimer)
+    if (dirty) void persist()
+  })
+
+  return { visit, version, errors, notFound, saving, readOnly, setConsent, addPhotos, removePhoto, save, keepServerCopy, resendOnTop }
+}

@@ -1,0 +1,84 @@
+import Dexie, { type EntityTable } from 'dexie'
+import type { FieldSetup } from '#shared/types/field'
+import type { ServerVisit, VisitLocation } from '#shared/utils/schemas/visit'
+
+// The tablet's own database (IndexedDB through Dexie), one per signed-in person: visits, photos as Blobs, and the
+// rounds, questionnaires and villages needed to record with no network. The device holds a visit until the
+// server has confirmed it; a confirmed visit stays here (state 'synced') so the enumerator still sees it.
+
+/** draft: being written · queued: waiting to sync · synced: the server has it · sent_back / conflict / rejected: needs the enumerator. */
+export type LocalState = 'draft' | 'queued' | 'synced' | 'sent_back' | 'conflict' | 'rejected'
+
+export interface LocalVisit {
+  id: string
+  roundId: number
+  villageId: number | null
+  questionnaireVersionId: number
+  farmCode: string
+  location: VisitLocation | null
+  answers: Record<string, unknown>
+  consent: boolean
+  consentAt: string | null
+  startedAt: string
+  savedAt: string | null
+  /** The server version this copy was edited from (0 before the first sync). */
+  baseVersion: number
+  state: LocalState
+  reviewState: ServerVisit['reviewState'] | null
+  reviewReason: string | null
+  errors: Record<string, string> | null
+  /** On conflict: the server's copy, which won; shown beside the device's. */
+  serverCopy: ServerVisit | null
+  updatedAt: string
+  syncedAt: string | null
+}
+
+export interface LocalPhoto {
+  id: string
+  visitId: string
+  blob: Blob
+  contentType: string
+  size: number
+  sha256: string
+  state: 'waiting' | 'uploaded'
+  createdAt: string
+}
+
+export interface CacheEntry {
+  key: 'setup' | 'lastSyncAt' | 'statesSince'
+  value: unknown
+}
+
+export class FieldDatabase extends Dexie {
+  visits!: EntityTable<LocalVisit, 'id'>
+  photos!: EntityTable<LocalPhoto, 'id'>
+  cache!: EntityTable<CacheEntry, 'key'>
+
+  constructor(name: string) {
+    super(name)
+    this.version(1).stores({
+      visits: 'id, state, roundId, villageId, updatedAt',
+      photos: 'id, visitId, state',
+      cache: 'key'
+    })
+  }
+
+  async setup(): Promise<FieldSetup | null> {
+    return ((await this.cache.get('setup'))?.value as FieldSetup | undefined) ?? null
+  }
+}
+
+const databases = new Map<number, FieldDatabase>()
+
+/** The field database of one person (a tablet may be shared; each person's queue stays their own). */
+export function fieldDb(userId: number): FieldDatabase {
+  let db = databases.get(userId)
+  if (!db) {
+    db = new FieldDatabase(`furrowcast-field-${userId}`)
+    databases.set(userId, db)
+  }
+  return db
+}
+
+export const WAITING_STATES: readonly LocalState[] = ['queued']
+export const NEEDS_ATTENTION: readonly LocalState[] = ['sent_back', 'conflict', 'rejected']

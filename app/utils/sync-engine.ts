@@ -1,0 +1,162 @@
+import type { FieldSetup, VisitStates } from '#shared/types/field'
+import type { SyncAnswer } from '#shared/utils/schemas/visit'
+import type { FieldDatabase, LocalVisit } from './field-db'
+
+// One sync pass: fetch the round definitions, send queued visits in batches, upload photos of synced visits,
+// then read back review states (sent back, accepted). A visit leaves the queue only on the server's word.
+
+export class SessionExpiredError extends Error {
+  constructor() {
+    super('Your session has ended. Sign in again to send your visits; they are kept on this tablet.')
+    this.name = 'SessionExpiredError'
+  }
+}
+
+export class OfflineError extends Error {
+  constructor() {
+    super('No connection to the server.')
+    this.name = 'OfflineError'
+  }
+}
+
+export interface SyncProgress { phase: 'setup' | 'visits' | 'photos' | 'states', done: number, total: number }
+export interface SyncSummary { sent: number, stored: number, conflicts: number, rejected: number, photos: number }
+
+const DEVICE_BATCH = 200
+
+async function call(url: string, init?: RequestInit): Promise<Response> {
+  let response: Response
+  try {
+    response = await fetch(url, { credentials: 'same-origin', ...init, headers: { accept: 'application/json', ...init?.headers } })
+  }
+  catch {
+    throw new OfflineError()
+  }
+  if (response.status === 401) throw new SessionExpiredError()
+  return response
+}
+
+async function json<T>(url: string, init?: RequestInit): Promise<T> {
+  const response = await call(url, init)
+  if (!response.ok && response.status !== 422) throw new Error(`The server answered ${response.status} to ${url}.`)
+  return response.json() as Promise<T>
+}
+
+export function payloadOf(v: LocalVisit) {
+  return {
+    id: v.id,
+    roundId: v.roundId,
+    villageId: v.villageId,
+    questionnaireVersionId: v.questionnaireVersionId,
+    baseVersion: v.baseVersion,
+    farmCode: v.farmCode,
+    location: v.location,
+    answers: v.answers,
+    consent: v.consent,
+    consentAt: v.consentAt,
+    startedAt: v.startedAt,
+    savedAt: v.savedAt
+  }
+}
+
+export async function refreshSetup(db: FieldDatabase): Promise<FieldSetup> {
+  const setup = await json<FieldSetup>('/api/field/setup')
+  await db.cache.put({ key: 'setup', value: setup })
+  if (!(await db.cache.get('statesSince'))) await db.cache.put({ key: 'statesSince', value: setup.fetchedAt })
+  return setup
+}
+
+async function pushVisits(db: FieldDatabase, summary: SyncSummary, progress: (p: SyncProgress) => void) {
+  const queued = await db.visits.where('state').equals('queued').toArray()
+  for (let i = 0; i < queued.length; i += DEVICE_BATCH) {
+    const batch = queued.slice(i, i + DEVICE_BATCH)
+    progress({ phase: 'visits', done: i, total: queued.length })
+    const answer = await json<SyncAnswer>('/api/sync/visits', {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ visits: batch.map(payloadOf) })
+    })
+    summary.sent += batch.length
+    const now = new Date().toISOString()
+    await db.transaction('rw', db.visits, async () => {
+      for (const result of answer.results) {
+        const local = batch.find(v => v.id === result.id)
+        // Only a copy unchanged since it was sent may be marked: an edit made meanwhile stays queued.
+        if (!local) continue
+        const current = await db.visits.get(local.id)
+        if (!current || current.updatedAt !== local.updatedAt) continue
+        if (result.status === 'stored' || result.status === 'duplicate') {
+          summary.stored++
+          await db.visits.update(local.id, { state: 'synced', baseVersion: result.version ?? local.baseVersion, errors: null, serverCopy: null, syncedAt: now, reviewState: current.reviewState === 'sent_back' ? 'received' : current.reviewState ?? 'received', reviewReason: null })
+        }
+        else if (result.status === 'conflict') {
+          summary.conflicts++
+          await db.visits.update(local.id, { state: 'conflict', serverCopy: result.server ?? null })
+        }
+        else {
+          summary.rejected++
+          await db.visits.update(local.id, { state: 'rejected', errors: result.errors ?? { _: 'Refused by the server' } })
+        }
+      }
+    })
+  }
+  progress({ phase: 'visits', done: queued.length, total: queued.length })
+}
+
+async function pushPhotos(db: FieldDatabase, summary: SyncSummary, progress: (p: SyncProgress) => void) {
+  const waiting = await db.photos.where('state').equals('waiting').toArray()
+  const visits = new Map((await db.visits.bulkGet(waiting.map(p => p.visitId))).filter(Boolean).map(v => [v!.id, v!]))
+  // A photo goes only after its visit reached the server.
+  const ready = waiting.filter(p => (visits.get(p.visitId)?.syncedAt ?? null) !== null)
+  for (const [i, photo] of ready.entries()) {
+    progress({ phase: 'photos', done: i, total: ready.length })
+    const response = await call(`/api/photos/${photo.id}?visitId=${photo.visitId}&sha256=${photo.sha256}`, {
+      method: 'PUT',
+      headers: { 'content-type': photo.contentType },
+      body: photo.blob
+    })
+    if (response.ok) {
+      await db.photos.update(photo.id, { state: 'uploaded' })
+      summary.photos++
+    }
+    else if (response.status >= 500) {
+      throw new Error(`The server could not store a photo (${response.status}); it will be retried.`)
+    }
+  }
+}
+
+async function pullStates(db: FieldDatabase) {
+  const since = (await db.cache.get('statesSince'))?.value as string | undefined
+  const states = await json<VisitStates>(`/api/sync/visits${since ? `?since=${encodeURIComponent(since)}` : ''}`)
+  await db.transaction('rw', db.visits, db.cache, async () => {
+    for (const server of states.visits) {
+      const local = await db.visits.get(server.id)
+      if (!local || local.state === 'queued' || local.state === 'draft' || local.state === 'conflict') continue
+      if (server.version < local.baseVersion) continue
+      const sentBack = server.reviewState === 'sent_back'
+      await db.visits.update(server.id, {
+        state: sentBack ? 'sent_back' : 'synced',
+        reviewState: server.reviewState,
+        reviewReason: server.reviewReason,
+        baseVersion: server.version,
+        // A coordinator's correction wins: the device shows the server's answers.
+        answers: server.answers,
+        farmCode: server.farmCode
+      })
+    }
+    // Overlap by a minute so that a change committed while we read is not missed.
+    await db.cache.put({ key: 'statesSince', value: new Date(Date.parse(states.at) - 60_000).toISOString() })
+  })
+}
+
+export async function syncOnce(db: FieldDatabase, progress: (p: SyncProgress) => void = () => {}): Promise<SyncSummary> {
+  const summary: SyncSummary = { sent: 0, stored: 0, conflicts: 0, rejected: 0, photos: 0 }
+  progress({ phase: 'setup', done: 0, total: 1 })
+  await refreshSetup(db)
+  await pushVisits(db, summary, progress)
+  await pushPhotos(db, summary, progress)
+  progress({ phase: 'states', done: 0, total: 1 })
+  await pullStates(db)
+  await db.cache.put({ key: 'lastSyncAt', value: new Date().toISOString() })
+  return summary
+}

@@ -1,0 +1,19 @@
+import { z } from 'zod'
+
+const paramsSchema = z.object({ id: z.uuid() })
+const querySchema = z.object({ visitId: z.uuid(), sha256: z.string().regex(/^[0-9a-f]{64}$/, 'sha256 must be 64 hex digits') })
+
+// Device → server: the bytes of one photo (already resized on the device), after its visit has synced.
+export default defineRoleHandler(['enumerator'], async (event, user) => {
+  const { id } = await getValidatedRouterParams(event, validateWith(paramsSchema))
+  const { visitId, sha256 } = await getValidatedQuery(event, validateWith(querySchema))
+  const contentType = (getHeader(event, 'content-type') ?? '').split(';')[0]!.trim()
+  if (!PHOTO_TYPES[contentType]) throw createError({ statusCode: 415, message: 'Send a JPEG, PNG or WebP photo.' })
+  const limit = serverConfig().PHOTO_MAX_BYTES
+  const tooLarge = () => createError({ statusCode: 413, message: `The photo is larger than ${Math.round(limit / 1024)} KB; resize it first.` })
+  if (Number(getHeader(event, 'content-length') ?? 0) > limit) throw tooLarge()
+  const body = await readRawBody(event, false)
+  if (!body?.length) throw createError({ statusCode: 400, message: 'The photo is empty.' })
+  if (body.length > limit) throw tooLarge()
+  return storePhoto(user, { id, visitId, contentType, sha256 }, Buffer.from(body))
+})

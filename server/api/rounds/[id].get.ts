@@ -1,0 +1,8 @@
+import { z } from 'zod'
+
+const paramsSchema = z.object({ id: z.coerce.number().int().positive() })
+
+export default defineRoleHandler(['coordinator'], async (event, user) => {
+  const { id } = await getValidatedRouterParams(event, validateWith(paramsSchema))
+  return roundDetail(user.organisationId, id)
+})

@@ -1,0 +1,1 @@
+export default defineRoleHandler(['coordinator'], async (_event, user) => listRounds(user.organisationId))

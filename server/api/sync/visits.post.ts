@@ -1,0 +1,11 @@
+// Device → server: a batch of visits, upserted by their device-made ids in one transaction.
+export default defineRoleHandler(['enumerator'], async (event, user) => {
+  const body = await readValidatedBody(event, validateWith(syncBatchSchema))
+  const answer = await ingestVisits(user, body.visits)
+  // Nothing in the batch could be stored: a 4xx, with the reasons per record.
+  if (answer.counts.rejected === answer.results.length) {
+    setResponseStatus(event, 422)
+    return { message: 'No visit in this batch could be stored; see the reasons per record.', ...answer }
+  }
+  return answer
+})

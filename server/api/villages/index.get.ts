@@ -1,0 +1,1 @@
+export default defineRoleHandler(['coordinator'], async (_event, user) => listVillages(user.organisationId))

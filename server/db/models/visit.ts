@@ -1,0 +1,67 @@
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize'
+
+export const REVIEW_STATES = ['received', 'accepted', 'sent_back'] as const
+export type ReviewState = typeof REVIEW_STATES[number]
+
+/** Quality flags the server computes on every stored visit. */
+export interface VisitFlags {
+  duplicateFarmCode?: true
+  farFromVillageKm?: number
+  edgeValues?: string[]
+  tooFastSeconds?: number
+}
+
+/** One farm visit; its id is made on the device, so a resend upserts instead of duplicating. */
+export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes<Visit>> {
+  declare id: string
+  declare organisationId: number
+  declare roundId: number
+  declare villageId: number
+  declare enumeratorId: number
+  declare questionnaireVersionId: number
+  declare farmCode: string
+  declare lat: number | null
+  declare lon: number | null
+  declare accuracyM: number | null
+  declare manualLocationReason: string | null
+  declare answers: Record<string, unknown>
+  declare consentAt: Date
+  declare startedAt: Date
+  declare savedAt: Date
+  declare adopted: number
+  declare reviewState: CreationOptional<ReviewState>
+  declare reviewReason: string | null
+  declare flags: VisitFlags
+  declare deviceHash: string
+  declare version: CreationOptional<number>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+
+  static initModel(sequelize: Sequelize) {
+    Visit.init({
+      id: { type: DataTypes.CHAR(36), primaryKey: true },
+      organisationId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      roundId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      villageId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      enumeratorId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      questionnaireVersionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      farmCode: { type: DataTypes.STRING(40), allowNull: false },
+      lat: { type: DataTypes.DOUBLE, allowNull: true },
+      lon: { type: DataTypes.DOUBLE, allowNull: true },
+      accuracyM: { type: DataTypes.DOUBLE, allowNull: true },
+      manualLocationReason: { type: DataTypes.STRING(300), allowNull: true },
+      answers: { type: DataTypes.JSON, allowNull: false },
+      consentAt: { type: DataTypes.DATE(3), allowNull: false },
+      startedAt: { type: DataTypes.DATE(3), allowNull: false },
+      savedAt: { type: DataTypes.DATE(3), allowNull: false },
+      adopted: { type: DataTypes.TINYINT, allowNull: false },
+      reviewState: { type: DataTypes.ENUM(...REVIEW_STATES), allowNull: false, defaultValue: 'received' },
+      reviewReason: { type: DataTypes.STRING(500), allowNull: true },
+      flags: { type: DataTypes.JSON, allowNull: false },
+      deviceHash: { type: DataTypes.CHAR(64), allowNull: false },
+      version: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 1 },
+      createdAt: DataTypes.DATE,
+      updatedAt: DataTypes.DATE
+    }, { sequelize, tableName: 'visits' })
+  }
+}

@@ -1,0 +1,41 @@
+import { Op } from 'sequelize'
+import type { FieldSetup, VisitStates } from '#shared/types/field'
+import { questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
+import { Assignment, QuestionnaireVersion, Round, Village, Visit } from '../db/models'
+import { serverCopyOf } from './field-sync'
+
+interface Actor { id: number, organisationId: number }
+
+export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
+  const assignments = await Assignment.findAll({ where: { userId: actor.id } })
+  const rounds = await Round.findAll({
+    where: { id: [...new Set(assignments.map(a => a.roundId))], organisationId: actor.organisationId, status: 'open' },
+    order: [['id', 'ASC']]
+  })
+  const roundIds = rounds.map(r => r.id)
+  const mine = assignments.filter(a => roundIds.includes(a.roundId))
+  const [villages, versions] = await Promise.all([
+    Village.findAll({ where: { id: [...new Set(mine.map(a => a.villageId))], organisationId: actor.organisationId }, order: [['name', 'ASC']] }),
+    QuestionnaireVersion.findAll({ where: { roundId: roundIds, frozenAt: { [Op.ne]: null } }, order: [['roundId', 'ASC'], ['number', 'ASC']] })
+  ])
+  return {
+    rounds: rounds.filter(r => r.currentVersionId !== null).map(r => ({
+      id: r.id,
+      name: r.name,
+      technology: r.technology,
+      season: r.season,
+      currentVersionId: r.currentVersionId!,
+      villageIds: mine.filter(a => a.roundId === r.id).map(a => a.villageId)
+    })),
+    villages: villages.map(v => ({ id: v.id, code: v.code, name: v.name, district: v.district, centreLat: v.centreLat, centreLon: v.centreLon })),
+    questionnaires: versions.map(v => ({ id: v.id, roundId: v.roundId, number: v.number, definition: questionnaireDefinitionSchema.parse(v.definition) })),
+    fetchedAt: new Date().toISOString()
+  }
+}
+
+export async function visitStatesFor(actor: Actor, since?: Date): Promise<VisitStates> {
+  const at = new Date()
+  const where = { enumeratorId: actor.id, organisationId: actor.organisationId, ...(since ? { updatedAt: { [Op.gte]: since } } : {}) }
+  const visits = await Visit.findAll({ where, order: [['updatedAt', 'DESC']], limit: 5000 })
+  return { visits: visits.map(serverCopyOf), at: at.toISOString() }
+}

@@ -1,0 +1,101 @@
+import type { H3Event } from 'h3'
+import { Op, literal, type Order, type WhereOptions } from 'sequelize'
+import type { Page } from '#shared/types/listing'
+import type { ReviewRow } from '#shared/types/field'
+import type { ReviewAction, ReviewQuery } from '#shared/utils/schemas/review'
+import { answersSchemaFor, adoptedOf } from '#shared/utils/schemas/visit'
+import { Photo, QuestionnaireVersion, User, Village, Visit } from '../db/models'
+import { database } from '../db/connection'
+import type { SignedInUser } from './access'
+
+const SORTS: Record<ReviewQuery['sort'], (dir: 'ASC' | 'DESC') => Order> = {
+  savedAt: dir => [['savedAt', dir], ['id', 'ASC']],
+  farmCode: dir => [['farmCode', dir], ['id', 'ASC']],
+  reviewState: dir => [['reviewState', dir], ['savedAt', 'DESC']],
+  village: dir => [[{ model: Village, as: 'village' }, 'name', dir], ['savedAt', 'DESC']],
+  enumerator: dir => [[{ model: User, as: 'enumerator' }, 'name', dir], ['savedAt', 'DESC']]
+}
+
+export async function listReviewVisits(organisationId: number, q: ReviewQuery): Promise<Page<ReviewRow>> {
+  const where: WhereOptions<Visit> = { organisationId }
+  if (q.roundId) Object.assign(where, { roundId: q.roundId })
+  if (q.villageId) Object.assign(where, { villageId: q.villageId })
+  if (q.enumeratorId) Object.assign(where, { enumeratorId: q.enumeratorId })
+  if (q.state) Object.assign(where, { reviewState: q.state })
+  const range: Record<symbol, Date> = {}
+  if (q.from) range[Op.gte] = new Date(`${q.from}T00:00:00Z`)
+  if (q.to) range[Op.lt] = new Date(Date.parse(`${q.to}T00:00:00Z`) + 86_400_000)
+  if (q.from || q.to) Object.assign(where, { savedAt: range })
+  if (q.flagged === '1') Object.assign(where, { [Op.and]: [literal('JSON_LENGTH(`Visit`.`flags`) > 0')] })
+  if (q.flagged === '0') Object.assign(where, { [Op.and]: [literal('JSON_LENGTH(`Visit`.`flags`) = 0')] })
+  const { rows, count } = await Visit.findAndCountAll({
+    where,
+    include: [
+      { model: Village, as: 'village', attributes: ['name'] },
+      { model: User, as: 'enumerator', attributes: ['name'] }
+    ],
+    order: SORTS[q.sort](q.dir === 'asc' ? 'ASC' : 'DESC'),
+    limit: q.pageSize,
+    offset: (q.page - 1) * q.pageSize
+  })
+  const photos = await Photo.findAll({ where: { visitId: rows.map(r => r.id), status: 'stored' }, attributes: ['id', 'visitId'], order: [['createdAt', 'ASC']] })
+  return { items: rows.map(v => reviewRowOf(v, photos.filter(p => p.visitId === v.id).map(p => p.id))), total: count, page: q.page, pageSize: q.pageSize }
+}
+
+function reviewRowOf(v: Visit, photoIds: string[]): ReviewRow {
+  const joined = v as Visit & { village?: Village, enumerator?: User }
+  return {
+    id: v.id,
+    roundId: v.roundId,
+    villageId: v.villageId,
+    villageName: joined.village?.name ?? '',
+    enumeratorId: v.enumeratorId,
+    enumeratorName: joined.enumerator?.name ?? '',
+    farmCode: v.farmCode,
+    savedAt: v.savedAt.toISOString(),
+    reviewState: v.reviewState,
+    reviewReason: v.reviewReason,
+    flags: v.flags as Record<string, unknown>,
+    answers: v.answers,
+    questionnaireVersionId: v.questionnaireVersionId,
+    lat: v.lat,
+    lon: v.lon,
+    accuracyM: v.accuracyM,
+    manualLocationReason: v.manualLocationReason,
+    version: v.version,
+    photoIds
+  }
+}
+
+/** Accept, send back or correct one visit; each bumps its version so a stale device edit turns into a conflict. */
+export async function reviewVisit(event: H3Event, user: SignedInUser, id: string, action: ReviewAction) {
+  return database().transaction(async (transaction) => {
+    const visit = await Visit.findOne({ where: { id, organisationId: user.organisationId }, transaction, lock: transaction.LOCK.UPDATE })
+    if (!visit) throw createError({ statusCode: 404, message: 'No such visit.' })
+    const base = { action: `visit.${action.action}`, entityType: 'visit', entityId: id }
+    if (action.action === 'accept') {
+      await visit.update({ reviewState: 'accepted', reviewReason: null, version: visit.version + 1 }, { transaction })
+      await audit(event, user, base, transaction)
+    }
+    else if (action.action === 'send_back') {
+      await visit.update({ reviewState: 'sent_back', reviewReason: action.reason, version: visit.version + 1 }, { transaction })
+      await audit(event, user, { ...base, details: { reason: action.reason } }, transaction)
+    }
+    else {
+      const version = await QuestionnaireVersion.findByPk(visit.questionnaireVersionId, { transaction })
+      const merged = { ...visit.answers, ...action.answers }
+      const parsed = answersSchemaFor(version!.definition.questions).safeParse(merged)
+      if (!parsed.success) {
+        const fieldErrors = fieldErrorsOf(parsed.error)
+        throw createError({ statusCode: 400, message: summaryOf(fieldErrors), data: { fieldErrors } })
+      }
+      // The audit entry keeps the old values of every changed answer.
+      const changed = Object.keys(action.answers).filter(k => JSON.stringify(visit.answers[k]) !== JSON.stringify(parsed.data[k]))
+      const before = Object.fromEntries(changed.map(k => [k, visit.answers[k] ?? null]))
+      const after = Object.fromEntries(changed.map(k => [k, parsed.data[k] ?? null]))
+      await visit.update({ answers: parsed.data, adopted: adoptedOf(parsed.data), version: visit.version + 1 }, { transaction })
+      await audit(event, user, { ...base, details: { reason: action.reason, before, after } }, transaction)
+    }
+    return { id, reviewState: visit.reviewState, version: visit.version }
+  })
+}

@@ -1,0 +1,151 @@
+import type { H3Event } from 'h3'
+import { fn, col } from 'sequelize'
+import type { RoundDetail, RoundRow, VillageRow } from '#shared/types/field'
+import { type Question, questionnaireDefinitionSchema, withOutcomeQuestion } from '#shared/utils/schemas/questionnaire'
+import type { RoundCreate, VillageCreate } from '#shared/utils/schemas/round'
+import { Assignment, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../db/models'
+import { database } from '../db/connection'
+import type { SignedInUser } from './access'
+
+export async function findRound(organisationId: number, id: number) {
+  const round = await Round.findOne({ where: { id, organisationId } })
+  if (!round) throw createError({ statusCode: 404, message: 'No such round.' })
+  return round
+}
+
+export async function listRounds(organisationId: number): Promise<RoundRow[]> {
+  const rounds = await Round.findAll({ where: { organisationId }, order: [['id', 'DESC']] })
+  const ids = rounds.map(r => r.id)
+  const [villages, visits, versions] = await Promise.all([
+    RoundVillage.findAll({ where: { roundId: ids }, attributes: ['roundId', [fn('COUNT', col('village_id')), 'n']], group: ['roundId'], raw: true }),
+    Visit.findAll({ where: { roundId: ids }, attributes: ['roundId', [fn('COUNT', col('id')), 'n']], group: ['roundId'], raw: true }),
+    QuestionnaireVersion.findAll({ where: { id: rounds.map(r => r.currentVersionId ?? 0) }, attributes: ['id', 'number'] })
+  ])
+  const count = (rows: unknown[], id: number) => Number((rows as Array<{ roundId: number, n: number }>).find(r => r.roundId === id)?.n ?? 0)
+  return rounds.map(r => ({
+    id: r.id,
+    name: r.name,
+    technology: r.technology,
+    season: r.season,
+    status: r.status,
+    villageCount: count(villages, r.id),
+    visitCount: count(visits, r.id),
+    versionNumber: versions.find(v => v.id === r.currentVersionId)?.number ?? null
+  }))
+}
+
+export async function roundDetail(organisationId: number, id: number): Promise<RoundDetail> {
+  const round = await findRound(organisationId, id)
+  const [row] = (await listRounds(organisationId)).filter(r => r.id === id)
+  const links = await RoundVillage.findAll({ where: { roundId: id } })
+  const [version, villages, assignments, enumerators] = await Promise.all([
+    round.currentVersionId ? QuestionnaireVersion.findByPk(round.currentVersionId) : null,
+    Village.findAll({ where: { id: links.map(l => l.villageId), organisationId }, order: [['name', 'ASC']] }),
+    Assignment.findAll({ where: { roundId: id }, attributes: ['userId', 'villageId'] }),
+    User.findAll({ where: { organisationId, role: 'enumerator', active: true }, attributes: ['id', 'name'], order: [['name', 'ASC']] })
+  ])
+  return {
+    ...row!,
+    questionnaire: version ? { id: version.id, roundId: version.roundId, number: version.number, definition: version.definition } : null,
+    villages: villages.map(villageRowOf),
+    assignments: assignments.map(a => ({ userId: a.userId, villageId: a.villageId })),
+    enumerators: enumerators.map(u => ({ id: u.id, name: u.name }))
+  }
+}
+
+export function villageRowOf(v: Village): VillageRow {
+  return { id: v.id, code: v.code, name: v.name, district: v.district, centreLat: v.centreLat, centreLon: v.centreLon, hasBoundary: v.boundary !== null }
+}
+
+export async function createRound(event: H3Event, user: SignedInUser, input: RoundCreate) {
+  return database().transaction(async (transaction) => {
+    const round = await Round.create({ ...input, organisationId: user.organisationId, status: 'draft', currentVersionId: null }, { transaction })
+    const definition = { questions: withOutcomeQuestion([], input.technology) }
+    const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition, frozenAt: null }, { transaction })
+    await round.update({ currentVersionId: version.id }, { transaction })
+    await audit(event, user, { action: 'round.create', entityType: 'round', entityId: round.id, details: input }, transaction)
+    return { id: round.id }
+  })
+}
+
+export async function setRoundStatus(event: H3Event, user: SignedInUser, id: number, status: 'open' | 'closed') {
+  return database().transaction(async (transaction) => {
+    const round = await findRound(user.organisationId, id)
+    const allowed = (round.status === 'draft' && status === 'open') || (round.status === 'open' && status === 'closed')
+    if (!allowed) throw createError({ statusCode: 409, message: `A ${round.status} round cannot become ${status}.` })
+    if (status === 'open') {
+      // Opening freezes the questionnaire: from now on every edit makes a new version.
+      await QuestionnaireVersion.update({ frozenAt: new Date() }, { where: { id: round.currentVersionId!, frozenAt: null }, transaction })
+    }
+    await round.update({ status }, { transaction })
+    await audit(event, user, { action: `round.${status}`, entityType: 'round', entityId: id }, transaction)
+    return { id, status }
+  })
+}
+
+/** Draft: edits the one version in place. Open: saves a new frozen version. Closed: refused. */
+export async function saveQuestionnaire(event: H3Event, user: SignedInUser, id: number, questions: Question[]) {
+  return database().transaction(async (transaction) => {
+    const round = await findRound(user.organisationId, id)
+    if (round.status === 'closed') throw createError({ statusCode: 409, message: 'A closed round\'s questionnaire cannot change.' })
+    const parsed = questionnaireDefinitionSchema.safeParse({ questions: withOutcomeQuestion(questions, round.technology) })
+    if (!parsed.success) throw createError({ statusCode: 400, message: summaryOf(fieldErrorsOf(parsed.error)), data: { fieldErrors: fieldErrorsOf(parsed.error) } })
+    const current = await QuestionnaireVersion.findByPk(round.currentVersionId!, { transaction, lock: transaction.LOCK.UPDATE })
+    let version = current!
+    if (round.status === 'draft' && !current!.frozenAt) {
+      await current!.update({ definition: parsed.data }, { transaction })
+    }
+    else {
+      version = await QuestionnaireVersion.create({ roundId: id, number: current!.number + 1, definition: parsed.data, frozenAt: new Date() }, { transaction })
+      await round.update({ currentVersionId: version.id }, { transaction })
+    }
+    await audit(event, user, { action: 'questionnaire.save', entityType: 'round', entityId: id, details: { version: version.number, questions: parsed.data.questions.length } }, transaction)
+    return { id: version.id, number: version.number }
+  })
+}
+
+export async function setRoundVillages(event: H3Event, user: SignedInUser, id: number, villageIds: number[]) {
+  return database().transaction(async (transaction) => {
+    await findRound(user.organisationId, id)
+    const villages = await Village.findAll({ where: { id: villageIds, organisationId: user.organisationId }, attributes: ['id'], transaction })
+    if (villages.length !== new Set(villageIds).size) throw createError({ statusCode: 400, message: 'villageIds: unknown village' })
+    await RoundVillage.destroy({ where: { roundId: id }, transaction })
+    await RoundVillage.bulkCreate(villages.map(v => ({ roundId: id, villageId: v.id })), { transaction })
+    await audit(event, user, { action: 'round.villages', entityType: 'round', entityId: id, details: { villageIds: villages.map(v => v.id) } }, transaction)
+    return { count: villages.length }
+  })
+}
+
+export async function setAssignments(event: H3Event, user: SignedInUser, id: number, assignments: Array<{ userId: number, villageId: number }>) {
+  return database().transaction(async (transaction) => {
+    await findRound(user.organisationId, id)
+    const [links, enumerators] = await Promise.all([
+      RoundVillage.findAll({ where: { roundId: id }, transaction }),
+      User.findAll({ where: { organisationId: user.organisationId, role: 'enumerator' }, attributes: ['id'], transaction })
+    ])
+    const villageIds = new Set(links.map(l => l.villageId))
+    const userIds = new Set(enumerators.map(u => u.id))
+    const bad = assignments.find(a => !villageIds.has(a.villageId) || !userIds.has(a.userId))
+    if (bad) throw createError({ statusCode: 400, message: 'assignments: each must pair an enumerator of this organisation with a village of this round' })
+    const unique = [...new Map(assignments.map(a => [`${a.userId}:${a.villageId}`, a])).values()]
+    await Assignment.destroy({ where: { roundId: id }, transaction })
+    await Assignment.bulkCreate(unique.map(a => ({ roundId: id, ...a })), { transaction })
+    await audit(event, user, { action: 'round.assignments', entityType: 'round', entityId: id, details: { count: unique.length } }, transaction)
+    return { count: unique.length }
+  })
+}
+
+export async function listVillages(organisationId: number): Promise<VillageRow[]> {
+  const villages = await Village.findAll({ where: { organisationId }, order: [['district', 'ASC'], ['name', 'ASC']] })
+  return villages.map(villageRowOf)
+}
+
+export async function createVillage(event: H3Event, user: SignedInUser, input: VillageCreate) {
+  return database().transaction(async (transaction) => {
+    const clash = await Village.findOne({ where: { organisationId: user.organisationId, code: input.code }, transaction })
+    if (clash) throw createError({ statusCode: 409, message: `A village with code ${input.code} exists already.` })
+    const village = await Village.create({ ...input, boundary: input.boundary ?? null, organisationId: user.organisationId }, { transaction })
+    await audit(event, user, { action: 'village.create', entityType: 'village', entityId: village.id, details: { code: input.code } }, transaction)
+    return villageRowOf(village)
+  })
+}

@@ -1,0 +1,78 @@
+import type { QuestionnaireVersionDto } from '../utils/schemas/questionnaire'
+import type { ServerVisit } from '../utils/schemas/visit'
+
+export interface FieldVillage {
+  id: number
+  code: string
+  name: string
+  district: string
+  centreLat: number
+  centreLon: number
+}
+
+export interface FieldRound {
+  id: number
+  name: string
+  technology: string
+  season: string
+  currentVersionId: number
+  villageIds: number[]
+}
+
+/** GET /api/field/setup: everything the tablet caches to record visits with no network. */
+export interface FieldSetup {
+  rounds: FieldRound[]
+  villages: FieldVillage[]
+  questionnaires: QuestionnaireVersionDto[]
+  fetchedAt: string
+}
+
+/** GET /api/sync/visits */
+export interface VisitStates {
+  visits: ServerVisit[]
+  at: string
+}
+
+export interface RoundRow {
+  id: number
+  name: string
+  technology: string
+  season: string
+  status: 'draft' | 'open' | 'closed'
+  villageCount: number
+  visitCount: number
+  versionNumber: number | null
+}
+
+export interface VillageRow extends FieldVillage {
+  hasBoundary: boolean
+}
+
+export interface RoundDetail extends RoundRow {
+  questionnaire: QuestionnaireVersionDto | null
+  villages: VillageRow[]
+  assignments: Array<{ userId: number, villageId: number }>
+  enumerators: Array<{ id: number, name: string }>
+}
+
+export interface ReviewRow {
+  id: string
+  roundId: number
+  villageId: number
+  villageName: string
+  enumeratorId: number
+  enumeratorName: string
+  farmCode: string
+  savedAt: string
+  reviewState: 'received' | 'accepted' | 'sent_back'
+  reviewReason: string | null
+  flags: Record<string, unknown>
+  answers: Record<string, unknown>
+  questionnaireVersionId: number
+  lat: number | null
+  lon: number | null
+  accuracyM: number | null
+  manualLocationReason: string | null
+  version: number
+  photoIds: string[]
+}

@@ -1,0 +1,103 @@
+import { z } from 'zod'
+
+// A questionnaire is a list of typed questions; one version of it yields one zod schema for a visit,
+// used by the tablet's form and by the sync route alike (visitSchemaFor).
+
+export const QUESTION_TYPES = ['number', 'whole', 'yesno', 'choice', 'date', 'text'] as const
+export type QuestionType = typeof QUESTION_TYPES[number]
+
+export const QUESTION_TYPE_LABELS: Record<QuestionType, string> = {
+  number: 'Number (with unit)',
+  whole: 'Whole number',
+  yesno: 'Yes / no',
+  choice: 'One of a list',
+  date: 'Date',
+  text: 'Short text'
+}
+
+/** The adoption outcome: present in every questionnaire, always a required yes/no. */
+export const OUTCOME_KEY = 'adopted'
+
+const key = z.string().trim().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Use 1–40 lower-case letters, digits or _, starting with a letter')
+const label = z.string().trim().min(1, 'Give the question a label').max(200)
+
+const common = {
+  key,
+  label,
+  help: z.string().trim().max(500).optional(),
+  required: z.boolean().default(false)
+}
+const bounds = {
+  min: z.number().finite().optional(),
+  max: z.number().finite().optional()
+}
+
+// Built under a local name: a top-level `export const x = z.fn(…, [` confuses the auto-import scanner.
+const questionVariants = z.discriminatedUnion('type', [
+  z.object({ ...common, type: z.literal('number'), unit: z.string().trim().max(20).optional(), ...bounds }),
+  z.object({ ...common, type: z.literal('whole'), unit: z.string().trim().max(20).optional(), ...bounds }),
+  z.object({ ...common, type: z.literal('yesno') }),
+  z.object({
+    ...common,
+    type: z.literal('choice'),
+    options: z.array(z.object({
+      value: z.string().trim().regex(/^[a-z0-9_]{1,40}$/, 'Option values are 1–40 lower-case letters, digits or _'),
+      label: z.string().trim().min(1).max(120)
+    })).min(2, 'List at least two options').max(50)
+  }),
+  z.object({ ...common, type: z.literal('date') }),
+  z.object({ ...common, type: z.literal('text'), maxLength: z.number().int().min(1).max(500).default(120) })
+]).superRefine((q, ctx) => {
+  if ((q.type === 'number' || q.type === 'whole') && q.min !== undefined && q.max !== undefined && q.min >= q.max) {
+    ctx.addIssue({ code: 'custom', path: ['max'], message: 'The maximum must be above the minimum' })
+  }
+  if (q.type === 'choice' && new Set(q.options.map(o => o.value)).size !== q.options.length) {
+    ctx.addIssue({ code: 'custom', path: ['options'], message: 'Option values must differ' })
+  }
+})
+export const questionSchema = questionVariants
+export type Question = z.infer<typeof questionSchema>
+export type QuestionInput = z.input<typeof questionSchema>
+
+export const questionnaireDefinitionSchema = z.object({
+  questions: z.array(questionSchema).min(1).max(200)
+}).superRefine((d, ctx) => {
+  const seen = new Set<string>()
+  d.questions.forEach((q, i) => {
+    if (seen.has(q.key)) ctx.addIssue({ code: 'custom', path: ['questions', i, 'key'], message: `The key ${q.key} is used twice` })
+    seen.add(q.key)
+  })
+  const outcome = d.questions.find(q => q.key === OUTCOME_KEY)
+  if (!outcome || outcome.type !== 'yesno' || !outcome.required) {
+    ctx.addIssue({ code: 'custom', path: ['questions'], message: `The adoption question (${OUTCOME_KEY}, a required yes/no) must be present` })
+  }
+})
+export type QuestionnaireDefinition = z.infer<typeof questionnaireDefinitionSchema>
+
+export function outcomeQuestion(technology: string): Question {
+  return {
+    key: OUTCOME_KEY,
+    label: `Has this farm adopted ${technology} this season?`,
+    help: 'Yes only if the farm used it on some of its land this season.',
+    type: 'yesno',
+    required: true
+  }
+}
+
+/** Puts the outcome question in (first) if it is missing, and forces it to a required yes/no. */
+export function withOutcomeQuestion(questions: Question[], technology: string): Question[] {
+  const rest = questions.filter(q => q.key !== OUTCOME_KEY)
+  const existing = questions.find(q => q.key === OUTCOME_KEY)
+  const outcome: Question = existing
+    ? { key: OUTCOME_KEY, label: existing.label, help: existing.help, type: 'yesno', required: true }
+    : outcomeQuestion(technology)
+  return [outcome, ...rest]
+}
+
+/** A saved version of a round's questionnaire, as the tablet and the server both see it. */
+export interface QuestionnaireVersionDto {
+  id: number
+  roundId: number
+  number: number
+  definition: QuestionnaireDefinition
+}

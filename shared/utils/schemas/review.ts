@@ -1,0 +1,31 @@
+import { z } from 'zod'
+
+export const REVIEW_SORTS = ['savedAt', 'farmCode', 'village', 'enumerator', 'reviewState'] as const
+
+export const reviewQuerySchema = z.object({
+  roundId: z.coerce.number().int().positive().optional(),
+  villageId: z.coerce.number().int().positive().optional(),
+  enumeratorId: z.coerce.number().int().positive().optional(),
+  state: z.enum(['received', 'accepted', 'sent_back']).optional(),
+  from: z.iso.date().optional(),
+  to: z.iso.date().optional(),
+  flagged: z.enum(['1', '0']).optional(),
+  sort: z.enum(REVIEW_SORTS).default('savedAt'),
+  dir: z.enum(['asc', 'desc']).default('desc'),
+  page: z.coerce.number().int().min(1).max(100_000).default(1),
+  pageSize: z.coerce.number().int().min(5).max(100).default(25)
+})
+export type ReviewQuery = z.infer<typeof reviewQuerySchema>
+
+// Built under a local name: a top-level `export const x = z.fn(…, [` confuses the auto-import scanner.
+const reviewActions = z.discriminatedUnion('action', [
+  z.object({ action: z.literal('accept') }),
+  z.object({ action: z.literal('send_back'), reason: z.string().trim().min(3, 'Say what the enumerator should fix').max(500) }),
+  z.object({
+    action: z.literal('correct'),
+    answers: z.record(z.string(), z.unknown()).refine(a => Object.keys(a).length > 0, 'Change at least one answer'),
+    reason: z.string().trim().min(3, 'Say why you correct this').max(500)
+  })
+], { error: 'Choose accept, send_back or correct' })
+export const reviewActionSchema = reviewActions
+export type ReviewAction = z.infer<typeof reviewActionSchema>

@@ -1,0 +1,46 @@
+import { z } from 'zod'
+import { questionSchema } from './questionnaire'
+
+export const roundCreateSchema = z.object({
+  name: z.string().trim().min(3, 'Give the round a name').max(160),
+  technology: z.string().trim().min(3, 'Name the technology').max(160),
+  season: z.string().trim().min(2, 'Name the season').max(60)
+})
+export type RoundCreate = z.infer<typeof roundCreateSchema>
+
+export const roundStatusSchema = z.object({ status: z.enum(['open', 'closed']) })
+
+export const questionnaireSaveSchema = z.object({ questions: z.array(questionSchema).min(1).max(200) })
+
+export const roundVillagesSchema = z.object({ villageIds: z.array(z.number().int().positive()).max(2000) })
+
+export const assignmentsSchema = z.object({
+  assignments: z.array(z.object({ userId: z.number().int().positive(), villageId: z.number().int().positive() })).max(20_000)
+})
+
+const position = z.tuple([z.number().min(-180).max(180), z.number().min(-90).max(90)]).rest(z.number())
+const ring = z.array(position).min(4, 'A ring needs at least 4 positions').refine(
+  r => r[0]![0] === r.at(-1)![0] && r[0]![1] === r.at(-1)![1], 'A ring must end where it starts')
+const polygon = z.object({ type: z.literal('Polygon'), coordinates: z.array(ring).min(1) })
+const multiPolygon = z.object({ type: z.literal('MultiPolygon'), coordinates: z.array(z.array(ring).min(1)).min(1) })
+const geometry = z.discriminatedUnion('type', [polygon, multiPolygon], { error: 'The boundary must be a GeoJSON Polygon or MultiPolygon' })
+
+/** A village boundary: a GeoJSON geometry, Feature or one-feature FeatureCollection, reduced to its geometry. */
+// Built under a local name: a top-level `export const x = z.fn(…, [` confuses the auto-import scanner.
+const boundaryForms = z.union([
+  geometry,
+  z.object({ type: z.literal('Feature'), geometry }).transform(f => f.geometry),
+  z.object({ type: z.literal('FeatureCollection'), features: z.array(z.object({ type: z.literal('Feature'), geometry })).length(1, 'Upload one village boundary at a time') })
+    .transform(c => c.features[0]!.geometry)
+], { error: 'The boundary must be a GeoJSON Polygon or MultiPolygon (or a Feature holding one)' })
+export const boundarySchema = boundaryForms
+
+export const villageCreateSchema = z.object({
+  code: z.string().trim().regex(/^[A-Za-z0-9-]{2,32}$/, 'Use 2–32 letters, digits or -'),
+  name: z.string().trim().min(2).max(120),
+  district: z.string().trim().min(2).max(120),
+  centreLat: z.number().min(-90).max(90),
+  centreLon: z.number().min(-180).max(180),
+  boundary: boundarySchema.nullable().optional()
+})
+export type VillageCreate = z.infer<typeof villageCreateSchema>

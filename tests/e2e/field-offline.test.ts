@@ -1,0 +1,141 @@
+import path from 'node:path'
+import type { Browser, Page } from 'playwright-core'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { Assignment, Photo, User, Village, Visit } from '../../server/db/models'
+import { closeTestDatabase, testDatabase } from '../support/database'
+import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { objectSize } from '../support/object-store'
+import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+
+let browser: Browser
+
+// Page loads and syncs take a moment on a busy machine: wait up to 10 s unless told otherwise.
+const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
+
+beforeAll(async () => {
+  baseUrl()
+  testDatabase()
+  browser = await launchBrowser()
+})
+afterAll(async () => {
+  await closeBrowser()
+  await closeTestDatabase()
+})
+
+// Answers for every question of the demo questionnaire.
+const NUMBERS: Record<string, string> = { farm_size_ha: '2.4', household_size: '6', schooling_years: '7', age_head: '41', dealer_distance_km: '8.5', livestock_tlu: '1.2' }
+const YESNO: Record<string, boolean> = { adopted: true, female_head: false, extension_contact: true, credit_access: false, group_member: true, owns_phone: true }
+
+async function recordVisit(page: Page, farmCode: string, photo?: Buffer) {
+  await page.getByRole('link', { name: 'New visit' }).first().click()
+  await page.waitForURL(/\/field\/visit\?id=/)
+  await page.getByLabel('Farm code *').fill(farmCode)
+  await page.getByRole('button', { name: 'Record GPS position' }).click()
+  await poll(() => page.getByTestId('gps-fix').count()).toBe(1)
+  for (const [key, value] of Object.entries(NUMBERS)) await page.locator(`#q-${key}`).fill(value)
+  for (const [key, value] of Object.entries(YESNO)) await page.locator(`input[name="q-${key}"][value="${value}"]`).check({ force: true })
+  if (photo) {
+    await page.locator('#visit-photos').setInputFiles({ name: 'farm.png', mimeType: 'image/png', buffer: photo })
+    await poll(() => page.getByTestId('visit-photo').count()).toBe(1)
+  }
+  await page.getByRole('checkbox', { name: /informed consent/ }).check()
+  await page.getByRole('button', { name: 'Save visit' }).click()
+  await page.waitForURL(url => url.pathname === '/field')
+}
+
+describe('field capture on a tablet with no network', () => {
+  it('opens offline from the service worker, records three visits with a photo, and syncs each exactly once', async () => {
+    const enumerator = await User.findOne({ where: { email: demoUser('enumerator').email } })
+    const assignments = await Assignment.findAll({ where: { userId: enumerator!.id } })
+    const villages = await Village.findAll({ where: { id: assignments.map(a => a.villageId) } })
+    const context = await newTabletContext(browser)
+    await context.grantPermissions(['geolocation'])
+    await context.setGeolocation({ latitude: villages[0]!.centreLat, longitude: villages[0]!.centreLon, accuracy: 7 })
+    let page = await context.newPage()
+
+    // Online: sign in once; the app fetches the round and installs its service worker.
+    await page.goto('/signin?next=/field')
+    await page.getByLabel('E-mail').fill(demoUser('enumerator').email)
+    await page.getByLabel('Password').fill(DEMO.password)
+    await page.getByRole('button', { name: 'Sign in' }).click()
+    await page.waitForURL(url => url.pathname === '/field')
+    await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
+    expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
+    const photo = Buffer.from(await page.evaluate(() => {
+      const canvas = document.createElement('canvas')
+      canvas.width = 1600
+      canvas.height = 1200
+      const g = canvas.getContext('2d')!
+      g.fillStyle = '#3d7a52'
+      g.fillRect(0, 0, 1600, 1200)
+      g.fillStyle = '#d99a1e'
+      g.fillRect(200, 300, 900, 500)
+      return canvas.toDataURL('image/png').split(',')[1]!
+    }), 'base64')
+
+    // Offline: the reload is answered by the service worker, and the cached round is there.
+    await context.setOffline(true)
+    await page.reload()
+    await poll(() => page.getByRole('heading', { level: 1 }).textContent()).toBe('Field work')
+    expect(await page.evaluate(() => navigator.serviceWorker.controller !== null)).toBe(true)
+    await poll(() => page.getByTestId('field-village').count()).toBeGreaterThan(0)
+
+    // The form cannot be saved without consent (or a farm code); errors come from the questionnaire's schema.
+    await page.getByRole('link', { name: 'New visit' }).first().click()
+    await page.getByRole('button', { name: 'Save visit' }).click()
+    await poll(() => page.locator('#farm-code-error').textContent()).toBe('Enter the farm code')
+    await poll(() => page.getByText('The farmer\'s informed consent is required').count()).toBe(1)
+    await page.getByRole('link', { name: 'Keep as draft' }).click()
+    await page.waitForURL(url => url.pathname === '/field')
+
+    const tag = Date.now().toString(36).toUpperCase()
+    const codes = [1, 2, 3].map(i => `E2E-${tag}-${i}`)
+    await recordVisit(page, codes[0]!, photo)
+    await recordVisit(page, codes[1]!)
+    await recordVisit(page, codes[2]!)
+    await poll(() => page.getByTestId('count-waiting-to-sync').textContent()).toBe('3')
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'field-offline.png'), fullPage: true })
+
+    // Close the app and open it again, still offline: the queue is on the device.
+    await page.close()
+    page = await context.newPage()
+    await page.goto('/field')
+    await poll(() => page.getByTestId('count-waiting-to-sync').textContent()).toBe('3')
+    expect(await Visit.count({ where: { farmCode: codes } })).toBe(0)
+
+    // Back online: the sync starts by itself and empties the queue.
+    await context.setOffline(false)
+    await poll(() => page.getByTestId('count-waiting-to-sync').textContent(), 30_000).toBe('0')
+    await poll(() => page.getByTestId('count-synced').textContent()).toBe('3')
+    await poll(() => page.getByTestId('sync-waiting').textContent(), 30_000).toBe('Nothing waiting to sync')
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'field-synced.png'), fullPage: true })
+
+    const stored = await Visit.findAll({ where: { farmCode: codes } })
+    expect(stored.map(v => v.farmCode).sort()).toEqual(codes)
+    expect(stored.every(v => v.enumeratorId === enumerator!.id && v.reviewState === 'received' && v.accuracyM === 7)).toBe(true)
+    const first = stored.find(v => v.farmCode === codes[0])!
+    expect(first.answers).toMatchObject({ adopted: true, farm_size_ha: 2.4, household_size: 6, female_head: false })
+    const photos = await Photo.findAll({ where: { visitId: stored.map(v => v.id) } })
+    expect(photos).toHaveLength(1)
+    expect(photos[0]).toMatchObject({ visitId: first.id, status: 'stored', contentType: 'image/jpeg' })
+    expect(await objectSize(photos[0]!.objectKey)).toBe(photos[0]!.sizeBytes)
+
+    // A coordinator sends one back with a reason: the tablet shows it, the enumerator fixes and resends it.
+    const coordinator = freshClient()
+    await coordinator.signIn(demoUser('coordinator').email)
+    const second = stored.find(v => v.farmCode === codes[1])!
+    expect((await coordinator.post(`/api/review/visits/${second.id}`, { action: 'send_back', reason: 'Check the household size with the farmer' })).status).toBe(200)
+    await page.getByRole('button', { name: 'Sync now' }).click()
+    await poll(() => page.getByTestId('count-sent-back').textContent(), 20_000).toBe('1')
+    await page.locator('[data-testid="local-visit"][data-state="sent_back"]').getByRole('link').click()
+    await poll(() => page.getByText('Check the household size with the farmer').count()).toBe(1)
+    await page.locator('#q-household_size').fill('8')
+    await page.getByRole('button', { name: 'Save visit' }).click()
+    await page.waitForURL(url => url.pathname === '/field')
+    await poll(() => page.getByTestId('count-synced').textContent(), 20_000).toBe('3')
+    await poll(async () => (await Visit.findByPk(second.id))!.reviewState).toBe('received')
+    expect((await Visit.findByPk(second.id))!.answers).toMatchObject({ household_size: 8 })
+    expect(await Visit.count({ where: { farmCode: codes } })).toBe(3)
+    await context.close()
+  }, 180_000)
+})
