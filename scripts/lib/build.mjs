@@ -2,7 +2,7 @@
 import { createHash } from 'node:crypto'
 import { existsSync, readFileSync, readdirSync, statSync, writeFileSync } from 'node:fs'
 import path from 'node:path'
-import { ROOT, fail, run, say } from './system.mjs'
+import { ROOT, run, say } from './system.mjs'
 
 const SOURCES = ['app', 'server', 'shared', 'public', 'nuxt.config.ts', 'tailwind.config.ts', 'pwa-assets.config.ts', 'package-lock.json', 'scripts/lib/bundle-fit-worker.mjs']
 const STAMP = path.join(ROOT, '.output', '.source-hash')
@@ -33,7 +33,8 @@ export function ensureBuild() {
   const have = existsSync(STAMP) ? readFileSync(STAMP, 'utf8').trim() : ''
   if (have === wanted && existsSync(path.join(ROOT, '.output', 'server', 'index.mjs'))) return false
   say(have ? 'sources changed since the last build: building' : 'building the app (first run)')
-  if (run('npx', ['nuxt', 'build']) !== 0) fail('the build failed; see the messages above.')
+  // Thrown, not exited: the caller stops the services it has already started.
+  if (run('npx', ['nuxt', 'build']) !== 0) throw new Error('the build failed; see the messages above.')
   writeFileSync(STAMP, wanted)
   return true
 }

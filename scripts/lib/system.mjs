@@ -73,7 +73,8 @@ export function portIsFree(port, host = '127.0.0.1') {
 
 export async function requireFreePort(port, what, variable) {
   if (!(await portIsFree(port))) {
-    fail(`port ${port} on 127.0.0.1 is already taken, so ${what} cannot start. Stop the program using it or set ${variable} to another port.`)
+    // Thrown, not exited, so that whatever was started before this check is stopped again.
+    throw new Error(`port ${port} on 127.0.0.1 is already taken, so ${what} cannot start. Stop the program using it or set ${variable} to another port.`)
   }
 }
 

@@ -23,6 +23,8 @@ export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/field', label: 'Field work', roles: ['enumerator'] },
   { to: '/rounds', label: 'Rounds', roles: ['coordinator'] },
   { to: '/review', label: 'Review', roles: ['coordinator'] },
+  { to: '/models', label: 'Models', roles: ['coordinator'] },
+  { to: '/overview', label: 'Adoption map', roles: ['coordinator', 'funder'] },
   { to: '/people', label: 'People', roles: ['admin'] },
   { to: '/audit', label: 'Audit log', roles: ['admin'] },
   { to: '/settings', label: 'Settings', roles: ['admin'] },

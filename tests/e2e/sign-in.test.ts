@@ -14,9 +14,9 @@ afterAll(closeBrowser)
 
 const EXPECTED_NAV: Record<string, string[]> = {
   admin: ['Home', 'People', 'Audit log', 'Settings', 'Outbox'],
-  coordinator: ['Home', 'Rounds', 'Review'],
+  coordinator: ['Home', 'Rounds', 'Review', 'Models', 'Adoption map'],
   enumerator: ['Home', 'Field work'],
-  funder: ['Home']
+  funder: ['Home', 'Adoption map']
 }
 
 describe('signing in through the browser', () => {

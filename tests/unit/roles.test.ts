@@ -28,7 +28,12 @@ describe('client navigation mirrors the roles', () => {
     ['/rounds/3', 'coordinator', true],
     ['/rounds', 'enumerator', false],
     ['/review', 'coordinator', true],
-    ['/review', 'funder', false]
+    ['/review', 'funder', false],
+    ['/models', 'coordinator', true],
+    ['/models/12', 'coordinator', true],
+    ['/models', 'funder', false],
+    ['/overview', 'funder', true],
+    ['/overview', 'enumerator', false]
   ] as const)('%s for %s → %s', (path, role, expected) => {
     expect(canOpen(path, role)).toBe(expected)
   })
@@ -36,9 +41,9 @@ describe('client navigation mirrors the roles', () => {
   it('gives every role a home and only admins the people pages', () => {
     for (const role of ROLES) expect(navFor(role).map(n => n.to)).toContain('/')
     expect(navFor('admin').map(n => n.to)).toEqual(['/', '/people', '/audit', '/settings', '/outbox'])
-    expect(navFor('funder').map(n => n.to)).toEqual(['/'])
+    expect(navFor('funder').map(n => n.to)).toEqual(['/', '/overview'])
     expect(navFor('enumerator').map(n => n.to)).toEqual(['/', '/field'])
-    expect(navFor('coordinator').map(n => n.to)).toEqual(['/', '/rounds', '/review'])
+    expect(navFor('coordinator').map(n => n.to)).toEqual(['/', '/rounds', '/review', '/models', '/overview'])
   })
 
   it('puts the own-password page in every role\'s user menu, not in the main bar', () => {

@@ -2,8 +2,10 @@ import type { Sequelize } from 'sequelize'
 import { Assignment } from './assignment'
 import { AuditEntry } from './audit-entry'
 import { MAIL_STATUSES, MailMessage, type MailStatus } from './mail-message'
+import { ModelRun } from './model-run'
 import { DEFAULT_ORGANISATION_SETTINGS, Organisation, settingsOf, type FunderOrganisation, type OrganisationSettings } from './organisation'
 import { Photo } from './photo'
+import { Publication } from './publication'
 import { QuestionnaireVersion } from './questionnaire-version'
 import { RateEvent } from './rate-event'
 import { ROUND_STATUSES, Round, type RoundStatus } from './round'
@@ -16,6 +18,7 @@ import { REVIEW_STATES, Visit, type ReviewState, type VisitFlags } from './visit
 
 export { AuditEntry, DEFAULT_ORGANISATION_SETTINGS, MAIL_STATUSES, MailMessage, Organisation, RateEvent, SignInAttempt, TOKEN_PURPOSES, User, UserToken, settingsOf }
 export { Assignment, Photo, QuestionnaireVersion, REVIEW_STATES, ROUND_STATUSES, Round, RoundVillage, Village, Visit }
+export { ModelRun, Publication }
 export type { FunderOrganisation, MailStatus, OrganisationSettings, ReviewState, RoundStatus, TokenPurpose, VisitFlags }
 
 export function initModels(sequelize: Sequelize): void {
@@ -40,4 +43,7 @@ export function initModels(sequelize: Sequelize): void {
   Photo.initModel(sequelize)
   Visit.belongsTo(Village, { foreignKey: 'villageId', as: 'village' })
   Visit.belongsTo(User, { foreignKey: 'enumeratorId', as: 'enumerator' })
+
+  ModelRun.initModel(sequelize)
+  Publication.initModel(sequelize)
 }

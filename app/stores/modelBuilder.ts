@@ -1,0 +1,38 @@
+import type { CovariateChoice, ModelRequestInput } from '#shared/utils/modelling/request'
+
+// The coordinator's model-builder choices: real client state that survives moving between pages.
+export const useModelBuilderStore = defineStore('model-builder', () => {
+  const roundId = ref<number | null>(null)
+  const covariates = ref<CovariateChoice[]>([])
+  const interactions = ref<Array<[string, string]>>([])
+  const link = ref<'probit' | 'logit' | 'cloglog' | 'cauchit'>('probit')
+  const se = ref<'cluster' | 'conventional' | 'hc1'>('cluster')
+  const margins = ref<'ame' | 'mem'>('ame')
+
+  function toggle(key: string, on: boolean) {
+    covariates.value = on
+      ? [...covariates.value.filter(c => c.key !== key), { key }]
+      : covariates.value.filter(c => c.key !== key)
+    if (!on) interactions.value = interactions.value.filter(([a, b]) => a !== key && b !== key)
+  }
+
+  function choice(key: string) {
+    return covariates.value.find(c => c.key === key)
+  }
+
+  function update(key: string, patch: Partial<CovariateChoice>) {
+    covariates.value = covariates.value.map(c => c.key === key ? { ...c, ...patch } : c)
+  }
+
+  function reset(round: number) {
+    roundId.value = round
+    covariates.value = []
+    interactions.value = []
+  }
+
+  const request = computed<ModelRequestInput | null>(() => roundId.value === null
+    ? null
+    : { roundId: roundId.value, covariates: covariates.value, interactions: interactions.value, link: link.value, se: se.value, margins: margins.value })
+
+  return { roundId, covariates, interactions, link, se, margins, toggle, choice, update, reset, request }
+})

@@ -1,0 +1,22 @@
+// Number formatting for model results: fixed, readable, and never "NaN" on screen.
+
+export function num(value: number | null | undefined, digits = 3): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return '—'
+  return value.toFixed(digits)
+}
+
+/** A probability or share as percentage points: 0.123 → "12.3". */
+export function pts(value: number | null | undefined, digits = 1): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return '—'
+  return (value * 100).toFixed(digits)
+}
+
+export function pValue(p: number | null | undefined): string {
+  if (p === null || p === undefined || !Number.isFinite(p)) return '—'
+  return p < 0.001 ? '< 0.001' : p.toFixed(3)
+}
+
+export function stars(p: number | null | undefined): string {
+  if (p === null || p === undefined) return ''
+  return p < 0.01 ? '●●' : p < 0.05 ? '●' : ''
+}

@@ -1,0 +1,10 @@
+import { z } from 'zod'
+import { ModelRun } from '../../db/models'
+
+const querySchema = z.object({ roundId: z.coerce.number().int().positive() })
+
+export default defineRoleHandler(['coordinator'], async (event, user) => {
+  const { roundId } = await getValidatedQuery(event, validateWith(querySchema))
+  const runs = await ModelRun.findAll({ where: { organisationId: user.organisationId, roundId }, order: [['id', 'DESC']], limit: 200 })
+  return runs.map(runSummary)
+})

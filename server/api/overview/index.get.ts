@@ -1,0 +1,1 @@
+export default defineRoleHandler(['funder', 'coordinator'], (_event, user) => publishedRounds(user))

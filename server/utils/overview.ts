@@ -1,0 +1,79 @@
+import { Op } from 'sequelize'
+import type { MapVillage } from '#shared/types/overview'
+import { Organisation, Publication, Round, Village } from '../db/models'
+import type { SignedInUser } from './access'
+
+// Everything here is built from frozen publications and village records: no visit, answer, photo, GPS point
+// or enumerator ever passes through, so a funder cannot reach household data by any route that uses it.
+
+async function minimumVisits(organisationId: number): Promise<number> {
+  const organisation = await Organisation.findByPk(organisationId)
+  return organisation?.settings.minVisitsForFunders ?? 5
+}
+
+export async function publishedRounds(user: SignedInUser) {
+  const publications = await Publication.findAll({ where: { organisationId: user.organisationId, active: true }, order: [['createdAt', 'DESC']] })
+  const rounds = await Round.findAll({ where: { id: { [Op.in]: publications.map(p => p.roundId) } } })
+  const minVisits = await minimumVisits(user.organisationId)
+  return publications.map((p) => {
+    const round = rounds.find(r => r.id === p.roundId)
+    const shown = p.content.villages.filter(v => v.n >= minVisits)
+    return {
+      roundId: p.roundId,
+      round: round?.name ?? '',
+      technology: round?.technology ?? '',
+      season: round?.season ?? '',
+      note: p.note,
+      publishedAt: p.createdAt.toISOString(),
+      farmsVisited: p.content.farmsVisited,
+      observedRate: p.content.overall.observedRate,
+      predicted: { estimate: p.content.overall.estimate, ciLow: p.content.overall.ciLow, ciHigh: p.content.overall.ciHigh },
+      villages: p.content.villages.length,
+      suppressedVillages: p.content.villages.length - shown.length,
+      targetRate: p.content.targetRate,
+      villagesBelowTarget: shown.filter(v => v.estimate < p.content.targetRate).length,
+      scenarios: p.content.scenarios.map(s => ({ name: s.name, description: s.description, change: s.overall.estimate }))
+    }
+  })
+}
+
+/** The map of one published round, villages below the minimum number of visits suppressed. */
+export async function publishedMap(user: SignedInUser, roundId: number): Promise<{ villages: MapVillage[], scenarios: string[], previous: { round: string, predicted: number } | null }> {
+  const publication = await Publication.findOne({ where: { organisationId: user.organisationId, roundId, active: true } })
+  if (!publication) throw createError({ statusCode: 404, message: 'This round has no published results.' })
+  const minVisits = await minimumVisits(user.organisationId)
+  const places = await Village.findAll({ where: { organisationId: user.organisationId, code: { [Op.in]: publication.content.villages.map(v => v.village) } } })
+  const villages = publication.content.villages.flatMap((v): MapVillage[] => {
+    const place = places.find(p => p.code === v.village)
+    if (!place) return []
+    const suppressed = v.n < minVisits
+    return [{
+      code: place.code,
+      name: place.name,
+      lat: place.centreLat,
+      lon: place.centreLon,
+      boundary: (place.boundary as GeoJSON.Geometry | null) ?? null,
+      visits: suppressed ? null : v.n,
+      suppressed,
+      observedRate: suppressed ? null : v.observedRate,
+      predicted: suppressed ? null : { estimate: v.estimate, ciLow: v.ciLow, ciHigh: v.ciHigh },
+      scenarios: suppressed
+        ? {}
+        : Object.fromEntries(publication.content.scenarios.flatMap(s => s.villages.filter(sv => sv.village === v.village).map(sv => [s.name, sv.scenario])))
+    }]
+  })
+  return { villages, scenarios: publication.content.scenarios.map(s => s.name), previous: await previousRound(user.organisationId, roundId) }
+}
+
+/** The latest other published round of the same technology, for the change between rounds. */
+async function previousRound(organisationId: number, roundId: number) {
+  const round = await Round.findByPk(roundId)
+  if (!round) return null
+  const siblings = await Round.findAll({ where: { organisationId, technology: round.technology, id: { [Op.ne]: roundId } } })
+  const earlier = await Publication.findOne({
+    where: { organisationId, active: true, roundId: { [Op.in]: siblings.map(s => s.id) } },
+    order: [['createdAt', 'DESC']]
+  })
+  if (!earlier) return null
+  return { round: siblings.find(s => s.id === earlier.roundId)?.name ?? '', predicted: earlier.content.overall.estimate }
+}

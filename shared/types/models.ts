@@ -1,0 +1,39 @@
+import type { ModelRequest } from '../utils/modelling/request'
+import type { ModelResults, ModelSpec } from '../utils/stats/types'
+
+export interface ModelRunSummary {
+  id: number
+  roundId: number
+  status: 'running' | 'done' | 'failed'
+  link: string
+  se: string
+  equation: string
+  rowCount: number
+  used: number | null
+  loglik: number | null
+  aic: number | null
+  converged: boolean | null
+  warnings: number
+  createdAt: string
+  durationMs: number | null
+}
+
+export interface ModelRunDetail extends ModelRunSummary {
+  request: ModelRequest
+  spec: ModelSpec
+  rowsHash: string
+  dataChanged: boolean
+  engineVersion: string
+  questionnaireVersionIds: number[]
+  excluded: { notAccepted: Record<string, number> }
+  results: ModelResults | null
+  error: { code: string, message: string } | null
+  villageNames: Record<string, string>
+}
+
+export interface ModelPreview {
+  equation: string
+  rows: { totalRows: number, used: number, dropped: number, byVariable: Array<{ variable: string, label: string, count: number }> }
+  excluded: { notAccepted: Record<string, number> }
+  problem: string | null
+}

@@ -1,0 +1,81 @@
+import path from 'node:path'
+import type { Browser, Page } from 'playwright-core'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { Round, Visit } from '../../server/db/models'
+import { closeTestDatabase, testDatabase } from '../support/database'
+import { DEMO, baseUrl, demoUser } from '../support/server'
+
+let browser: Browser
+
+let accepted = 0
+let roundId = 0
+
+beforeAll(async () => {
+  baseUrl()
+  testDatabase()
+  // The seeded round is the first one; other test files may have accepted a few more of its visits.
+  const round = await Round.findOne({ order: [['id', 'ASC']] })
+  roundId = round!.id
+  accepted = await Visit.count({ where: { roundId, reviewState: 'accepted' } })
+  browser = await launchBrowser()
+})
+afterAll(async () => {
+  await closeBrowser()
+  await closeTestDatabase()
+})
+
+async function signIn(page: Page, role: string, next = '/') {
+  await page.goto(`/signin?next=${encodeURIComponent(next)}`)
+  await page.getByLabel('E-mail').fill(demoUser(role).email)
+  await page.getByLabel('Password').fill(DEMO.password)
+  await page.getByRole('button', { name: 'Sign in' }).click()
+  await page.waitForURL(url => url.pathname === next)
+}
+
+describe('the coordinator fits, reads and publishes a model; the funder sees the map', () => {
+  it('builds a model with a preview, fits it in the background and reads the results', async () => {
+    const context = await newTabletContext(browser)
+    const page = await context.newPage()
+    await signIn(page, 'coordinator', '/models')
+    await page.goto(`/models?round=${roundId}`)
+    await page.getByLabel('Distance to the nearest input dealer').check()
+    await page.getByLabel('Contact with an extension officer last season?').check()
+    await page.getByLabel('Is the household headed by a woman?').check()
+    await expect.poll(() => page.getByTestId('model-preview').textContent(), { timeout: 15_000 }).toContain(`${accepted} accepted visits will be used`)
+    await expect.poll(() => page.getByTestId('model-preview').textContent()).toMatch(/P\(adopt = 1\) = Φ\(β₀/)
+    await page.getByRole('button', { name: 'Fit the model' }).click()
+    await page.waitForURL(/\/models\/\d+$/)
+    await expect.poll(() => page.getByTestId('margins-table').count(), { timeout: 30_000 }).toBe(1)
+    const readings = await page.getByTestId('effect-reading').allTextContents()
+    expect(readings.some(r => /Answering yes to “Contact with an extension officer last season\?” goes with an? [\d.]+-point higher adoption probability/.test(r))).toBe(true)
+    expect(await page.getByTestId('model-cautions').textContent()).toMatch(/not causal effects/)
+    await expect.poll(() => page.locator('canvas').count()).toBeGreaterThanOrEqual(4)
+    expect(await page.getByTestId('village-table').locator('tbody tr').count()).toBe(24)
+    await page.getByLabel('at the average farm instead of averaged over farms').check()
+    await expect.poll(() => page.getByTestId('margins-table').locator('caption').textContent()).toMatch(/at the means/)
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'model-results.png'), fullPage: true })
+
+    await page.getByLabel('Note for readers').fill('Results of the first sorghum round')
+    await page.getByRole('button', { name: /Publish this fit/ }).click()
+    await expect.poll(() => page.getByRole('status').filter({ hasText: 'Published' }).count()).toBe(1)
+    await context.close()
+  })
+
+  it('shows the funder the headline, one mark per published village, and the gap view', async () => {
+    const context = await newTabletContext(browser)
+    const page = await context.newPage()
+    await signIn(page, 'funder', '/overview')
+    await page.goto(`/overview?round=${roundId}`)
+    await expect.poll(() => page.getByTestId('headline').textContent(), { timeout: 15_000 }).toMatch(new RegExp(`Farms visited\\s*${accepted}`))
+    await expect.poll(() => page.getByTestId('map-village').count()).toBe(24)
+    await expect.poll(() => page.locator('[data-testid="adoption-map"] canvas').count()).toBeGreaterThan(0)
+    const before = await page.getByTestId('map-village').locator('[data-colour]').evaluateAll(els => els.map(e => e.getAttribute('data-colour')))
+    await page.getByText('Gap: observed − predicted').click()
+    await expect.poll(() => page.getByTestId('map-legend').textContent()).toMatch(/Observed − predicted/)
+    const after = await page.getByTestId('map-village').locator('[data-colour]').evaluateAll(els => els.map(e => e.getAttribute('data-colour')))
+    expect(after).not.toEqual(before)
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'funder-map.png'), fullPage: true })
+    await context.close()
+  })
+})

@@ -1,0 +1,189 @@
+import { readFileSync, readdirSync } from 'node:fs'
+import path from 'node:path'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { AuditEntry, ModelRun, Organisation, Visit, Village } from '../../server/db/models'
+import { runModel } from '../../shared/utils/stats'
+import type { ModelRunDetail, ModelRunSummary } from '../../shared/types/models'
+import { closeTestDatabase, testDatabase } from '../support/database'
+import { type Client, demoUser, freshClient } from '../support/server'
+
+// The demo round: 1,500 accepted visits in 24 villages generated from a known probit (server/db/demo/README.md).
+let coordinator: Client
+let funder: Client
+let roundId: number
+let accepted: number
+const covariates = [{ key: 'dealer_distance_km' }, { key: 'extension_contact' }, { key: 'farm_size_ha', transform: 'log' }, { key: 'female_head' }]
+
+async function fitAndWait(body: unknown): Promise<ModelRunDetail> {
+  const started = await coordinator.post<ModelRunSummary>('/api/models', body)
+  expect(started.status).toBe(202)
+  for (let i = 0; i < 120; i++) {
+    const run = await coordinator.get<ModelRunDetail>(`/api/models/${started.body.id}`)
+    if (run.body.status !== 'running') return run.body
+    await new Promise(resolve => setTimeout(resolve, 250))
+  }
+  throw new Error('the fit did not finish in 30 s')
+}
+
+beforeAll(async () => {
+  testDatabase()
+  coordinator = freshClient()
+  await coordinator.signIn(demoUser('coordinator').email)
+  funder = freshClient()
+  await funder.signIn(demoUser('funder').email)
+  // The seeded round is the first one; other test files add rounds (and visits) of their own.
+  const rounds = await coordinator.get<Array<{ id: number }>>('/api/rounds')
+  roundId = Math.min(...rounds.body.map(r => r.id))
+  accepted = await Visit.count({ where: { roundId, reviewState: 'accepted' } })
+})
+afterAll(closeTestDatabase)
+
+describe('fitting a model of the demo round', () => {
+  let run: ModelRunDetail
+
+  it('previews the equation and the visits used before fitting', async () => {
+    const preview = await coordinator.post<{ equation: string, rows: { used: number, totalRows: number } }>('/api/models/preview', { roundId, covariates })
+    expect(preview.status).toBe(200)
+    expect(preview.body.equation).toMatch(/^P\(adopt = 1\) = Φ\(β₀ \+ β₁·/)
+    expect(accepted).toBeGreaterThanOrEqual(1500)
+    expect(preview.body.rows.totalRows).toBe(accepted)
+  })
+
+  it('fits in the background and stores the run with spec, row hash and engine version', async () => {
+    run = await fitAndWait({ roundId, covariates })
+    expect(run.status).toBe('done')
+    expect(run.results!.converged).toBe(true)
+    expect(run.results!.covariance.type).toBe('cluster')
+    expect(run.results!.covariance.clusters).toBe(24)
+    expect(run.rowsHash).toMatch(/^[0-9a-f]{64}$/)
+    expect(run.engineVersion).toBe(run.results!.engineVersion)
+    // The demo data were generated with these signs (server/db/demo/README.md).
+    const coef = Object.fromEntries(run.results!.coefficients.map(c => [c.term, c.estimate]))
+    expect(Object.values(coef).length).toBe(5)
+    const byLabel = (fragment: string) => run.results!.coefficients.find(c => c.label.toLowerCase().includes(fragment))!.estimate
+    expect(byLabel('dealer')).toBeLessThan(0)
+    expect(byLabel('extension')).toBeGreaterThan(0)
+    expect(byLabel('female')).toBeLessThan(0)
+    expect(run.results!.margins!.effects.length).toBe(4)
+    expect(run.results!.otherMargins!.kind).toBe('mem')
+  })
+
+  it('used exactly the accepted visits: the engine run in-process on rows read from MariaDB gives the same numbers', async () => {
+    const visits = await Visit.findAll({ where: { roundId, reviewState: 'accepted' }, order: [['id', 'ASC']] })
+    const villages = await Village.findAll()
+    const code = new Map(villages.map(v => [v.id, v.code]))
+    const rows = visits.map(v => ({ ...v.answers, adopted: v.adopted, village: code.get(v.villageId) }))
+    const local = runModel(rows, run.spec)
+    expect(local.coefficients.map(c => c.estimate)).toEqual(run.results!.coefficients.map(c => c.estimate))
+    expect(local.coefficients.map(c => c.se)).toEqual(run.results!.coefficients.map(c => c.se))
+  })
+
+  it('re-running the stored specification on the same rows gives the same numbers', async () => {
+    const again = await coordinator.post<ModelRunSummary>(`/api/models/${run.id}/rerun`)
+    expect(again.status).toBe(202)
+    let second: ModelRunDetail | undefined
+    for (let i = 0; i < 120 && second?.status !== 'done'; i++) {
+      second = (await coordinator.get<ModelRunDetail>(`/api/models/${again.body.id}`)).body
+      if (second.status === 'running') await new Promise(resolve => setTimeout(resolve, 250))
+    }
+    expect(second!.rowsHash).toBe(run.rowsHash)
+    const strip = (r: ModelRunDetail) => ({ ...r.results!, timings: null })
+    expect(strip(second!)).toEqual(strip(run))
+  })
+
+  it('compares nested fits with a likelihood-ratio test, and probit with logit on the same rows', async () => {
+    const small = await fitAndWait({ roundId, covariates: covariates.slice(0, 2) })
+    const logit = await fitAndWait({ roundId, covariates, link: 'logit' })
+    const compared = await coordinator.get<{ tests: Array<{ restricted: number, full: number, chi2: number, df: number, p: number }>, runs: Array<{ id: number, sameRowsAs: number[] }>, notComparable: string[] }>(
+      `/api/models/compare?ids=${run.id},${small.id},${logit.id}`)
+    expect(compared.status).toBe(200)
+    const test = compared.body.tests.find(t => t.restricted === small.id && t.full === run.id)!
+    expect(test.df).toBe(2)
+    expect(test.chi2).toBeCloseTo(2 * (run.results!.fit.loglik - small.results!.fit.loglik), 10)
+    expect(compared.body.runs.find(r => r.id === logit.id)!.sameRowsAs).toContain(run.id)
+    expect(compared.body.notComparable.join(' ')).toMatch(/different links/)
+  })
+
+  it('simulates a scenario: extension contact for every farm raises predicted adoption, by village too', async () => {
+    const answer = await coordinator.post<Array<{ overall: { estimate: number, se: number }, villages: unknown[] }>>(`/api/models/${run.id}/scenarios`, {
+      scenarios: [{ name: 'extension for all', covariate: 'extension_contact', set: true }]
+    })
+    expect(answer.status).toBe(200)
+    expect(answer.body[0]!.overall.estimate).toBeGreaterThan(0)
+    expect(answer.body[0]!.overall.se).toBeGreaterThan(0)
+    expect(answer.body[0]!.villages).toHaveLength(24)
+  })
+
+  it('exports CSV and JSON with the cautions first', async () => {
+    const csv = await coordinator.request('GET', `/api/models/${run.id}/export?format=csv`)
+    expect(csv.status).toBe(200)
+    expect(String(csv.body).split('\n')[0]).toMatch(/not causal effects/)
+    expect(String(csv.body)).toMatch(/^coefficient,\(Intercept\)/m)
+    const json = await coordinator.get<{ cautions: string[], results: unknown }>(`/api/models/${run.id}/export?format=json`)
+    expect(json.body.cautions.length).toBe(3)
+  })
+
+  it.each([
+    ['an unknown question', (id: number) => ({ roundId: id, covariates: [{ key: 'no_such_question' }] }), 400],
+    ['a log of a yes/no answer', (id: number) => ({ roundId: id, covariates: [{ key: 'extension_contact', transform: 'log' }] }), 400],
+    ['no covariates', (id: number) => ({ roundId: id, covariates: [] }), 400],
+    ['a round id that is not a number', () => ({ roundId: 'x', covariates: [{ key: 'farm_size_ha' }] }), 400],
+    ['a round that does not exist', () => ({ roundId: 99999, covariates: [{ key: 'farm_size_ha' }] }), 404]
+  ])('refuses %s with a clear message and stores nothing', async (_label, body, status) => {
+    const before = await ModelRun.count()
+    const answer = await coordinator.post('/api/models', body(roundId))
+    expect(answer.status).toBe(status)
+    expect(typeof answer.body.message).toBe('string')
+    expect(await ModelRun.count()).toBe(before)
+  })
+
+  describe('publishing', () => {
+    it('publishes, tells funders by e-mail, and funders see village aggregates only', async () => {
+      const published = await coordinator.post(`/api/models/${run.id}/publish`, { note: 'First round results', targetRate: 0.3 })
+      expect(published.status).toBe(200)
+      const overview = await funder.get<Array<{ roundId: number, farmsVisited: number, predicted: { estimate: number } }>>('/api/overview')
+      expect(overview.status).toBe(200)
+      expect(overview.body.map(r => r.roundId)).toContain(roundId)
+      const map = await funder.get<{ villages: Array<Record<string, unknown>> }>(`/api/overview/${roundId}`)
+      expect(map.body.villages).toHaveLength(24)
+      const allowed = ['code', 'name', 'lat', 'lon', 'boundary', 'visits', 'suppressed', 'observedRate', 'predicted', 'scenarios']
+      for (const v of map.body.villages) expect(Object.keys(v).every(k => allowed.includes(k))).toBe(true)
+      expect(JSON.stringify(map.body)).not.toMatch(/farmCode|answers|enumerator|photo|accuracy/i)
+      const outbox = process.env.OUTBOX_DIR!
+      let found = false
+      for (let i = 0; i < 40 && !found; i++) {
+        found = readdirSync(outbox).filter(f => f.endsWith('.eml')).some(f => readFileSync(path.join(outbox, f), 'utf8').includes(demoUser('funder').email) && /New results from/.test(readFileSync(path.join(outbox, f), 'utf8')))
+        if (!found) await new Promise(resolve => setTimeout(resolve, 250))
+      }
+      expect(found).toBe(true)
+    })
+
+    it('hides villages with fewer visits than the organisation\'s minimum', async () => {
+      const organisation = await Organisation.findOne()
+      const settings = organisation!.settings
+      await organisation!.update({ settings: { ...settings, minVisitsForFunders: 100_000 } })
+      try {
+        const map = await funder.get<{ villages: Array<{ suppressed: boolean, visits: number | null, predicted: unknown }> }>(`/api/overview/${roundId}`)
+        expect(map.body.villages.every(v => v.suppressed && v.visits === null && v.predicted === null)).toBe(true)
+      }
+      finally {
+        await organisation!.update({ settings })
+      }
+    })
+
+    it('audits replacing and withdrawing, after which funders see nothing of the round', async () => {
+      expect((await coordinator.post(`/api/models/${run.id}/publish`, { note: 'Replaced with the same fit' })).status).toBe(200)
+      expect(await AuditEntry.count({ where: { action: 'publication.replace' } })).toBeGreaterThan(0)
+      expect((await coordinator.request('DELETE', `/api/publications/${roundId}`)).status).toBe(200)
+      expect(await AuditEntry.count({ where: { action: 'publication.withdraw' } })).toBeGreaterThan(0)
+      expect((await funder.get(`/api/overview/${roundId}`)).status).toBe(404)
+      // Leave it published for the browser tests.
+      expect((await coordinator.post(`/api/models/${run.id}/publish`, { note: 'Demo results', tabletAid: true })).status).toBe(200)
+    })
+
+    it('refuses to publish with a bad note, and answers 404 for another organisation\'s run', async () => {
+      expect((await coordinator.post(`/api/models/${run.id}/publish`, { note: '' })).status).toBe(400)
+      expect((await coordinator.post('/api/models/999999/publish', { note: 'nothing' })).status).toBe(404)
+    })
+  })
+})
