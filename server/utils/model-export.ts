@@ -12,8 +12,9 @@ const row = (cells: unknown[]) => cells.map(csvCell).join(',')
 export function runAsCsv(run: ModelRun, villageNames: Record<string, string>): string {
   const r = run.results!
   const lines: string[] = [
-    ...MODEL_CAUTIONS.map(c => row([`# ${c}`])),
-    row([`# Furrowcast model run ${run.id}; engine ${run.engineVersion}; rows hash ${run.rowsHash}; link ${r.link}; standard errors ${r.covariance.type}`]),
+    // Comment lines, written as they are (not CSV-quoted): spreadsheet and data tools skip or show them whole.
+    ...MODEL_CAUTIONS.map(c => `# ${c}`),
+    `# Furrowcast model run ${run.id}; engine ${run.engineVersion}; rows hash ${run.rowsHash}; link ${r.link}; standard errors ${r.covariance.type}`,
     '',
     row(['section', 'term', 'estimate', 'se', 'z', 'p', 'ci_low', 'ci_high'])
   ]

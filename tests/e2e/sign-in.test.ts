@@ -28,7 +28,11 @@ describe('signing in through the browser', () => {
     await page.getByLabel('E-mail').fill(email)
     await page.getByLabel('Password').fill(DEMO.password)
     await page.getByRole('button', { name: 'Sign in' }).click()
-    await page.waitForURL(url => url.pathname === '/')
+    await page.waitForURL(url => url.pathname === '/').catch(async (error) => {
+      // Keep what the page showed: a sign-in that does not land is easier to read from a picture.
+      await page.screenshot({ path: path.join(SCREENSHOTS, `signin-stuck-${role}.png`) })
+      throw error
+    })
     await expect.poll(() => page.getByTestId('current-role').textContent()).toContain(role === 'admin' ? 'Administrator' : role[0]!.toUpperCase() + role.slice(1))
     const nav = await page.getByRole('navigation', { name: 'Main' }).getByRole('link').allTextContents()
     expect(nav.map(t => t.trim())).toEqual(EXPECTED_NAV[role])
