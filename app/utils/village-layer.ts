@@ -22,7 +22,7 @@ export function villageLayer(villages: readonly MapVillage[], mode: MapMode, ren
   const layer = L.layerGroup()
   const maxVisits = Math.max(1, ...villages.map(v => v.visits ?? 0))
   for (const v of villages) {
-    const style = { color: '#1b1d17', weight: 1, fillColor: colourFor(mapValue(v, mode), classes), fillOpacity: 0.9, renderer }
+    const style = { color: '#1b1d17', weight: 1, fillColor: colourFor(mapValue(v, mode), classes), fillOpacity: 1, renderer }
     const shape = v.boundary
       ? L.geoJSON(v.boundary as GeoJSON.GeoJsonObject, { style: () => style })
       : L.circleMarker([v.lat, v.lon], { ...style, radius: 5 + 10 * Math.sqrt((v.visits ?? 0) / maxVisits) })

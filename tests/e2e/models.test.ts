@@ -3,6 +3,7 @@ import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
 import { Round, Visit } from '../../server/db/models'
+import { ADOPTION_PALETTE } from '../../shared/utils/map-palette'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { DEMO, baseUrl, demoUser } from '../support/server'
 
@@ -24,6 +25,22 @@ afterAll(async () => {
   await closeBrowser()
   await closeTestDatabase()
 })
+
+/** Counts canvas pixels of the map that are exactly one of the adoption palette's colours. */
+function paletteColoursOnMap(page: Page): Promise<number> {
+  return page.evaluate((palette) => {
+    const wanted = new Set(palette.map(h => h.toLowerCase()))
+    let hits = 0
+    for (const canvas of document.querySelectorAll<HTMLCanvasElement>('[data-testid="adoption-map"] canvas')) {
+      const data = canvas.getContext('2d')!.getImageData(0, 0, canvas.width, canvas.height).data
+      for (let i = 0; i < data.length; i += 4) {
+        const hex = `#${[data[i]!, data[i + 1]!, data[i + 2]!].map(v => v.toString(16).padStart(2, '0')).join('')}`
+        if (wanted.has(hex)) hits++
+      }
+    }
+    return hits
+  }, [...ADOPTION_PALETTE])
+}
 
 async function signIn(page: Page, role: string, next = '/') {
   await page.goto(`/signin?next=${encodeURIComponent(next)}`)
@@ -69,7 +86,9 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await page.goto(`/overview?round=${roundId}`)
     await expect.poll(() => page.getByTestId('headline').textContent(), { timeout: 15_000 }).toMatch(new RegExp(`Farms visited\\s*${accepted}`))
     await expect.poll(() => page.getByTestId('map-village').count()).toBe(24)
-    await expect.poll(() => page.locator('[data-testid="adoption-map"] canvas').count()).toBeGreaterThan(0)
+    // Every village is drawn on the map's canvas, and its pixels carry the palette's colours.
+    await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-villages-drawn')).toBe('24')
+    await expect.poll(() => paletteColoursOnMap(page)).toBeGreaterThan(0)
     const before = await page.getByTestId('map-village').locator('[data-colour]').evaluateAll(els => els.map(e => e.getAttribute('data-colour')))
     await page.getByText('Gap: observed − predicted').click()
     await expect.poll(() => page.getByTestId('map-legend').textContent()).toMatch(/Observed − predicted/)
