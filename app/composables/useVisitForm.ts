@@ -124,7 +124,8 @@ export function useVisitForm() {
 
   /** On a conflict: take the server's copy (it won) and drop the device's edit. */
   async function keepServerCopy() {
-    const server = visit.value?.serverCopy
+    // A plain copy: IndexedDB cannot store Vue's reactive proxies.
+    const server = visit.value?.serverCopy ? JSON.parse(JSON.stringify(visit.value.serverCopy)) as NonNullable<LocalVisit['serverCopy']> : null
     if (!visit.value || !server) return
     await db.visits.update(visit.value.id, { answers: server.answers, farmCode: server.farmCode, baseVersion: server.version, state: server.reviewState === 'sent_back' ? 'sent_back' : 'synced', reviewState: server.reviewState, reviewReason: server.reviewReason, serverCopy: null, errors: null, updatedAt: new Date().toISOString() })
     await load()

@@ -7,6 +7,7 @@ import { answersSchemaFor, adoptedOf } from '#shared/utils/schemas/visit'
 import { Photo, QuestionnaireVersion, User, Village, Visit } from '../db/models'
 import { database } from '../db/connection'
 import type { SignedInUser } from './access'
+import { edgeValues } from './visit-flags'
 
 const SORTS: Record<ReviewQuery['sort'], (dir: 'ASC' | 'DESC') => Order> = {
   savedAt: dir => [['savedAt', dir], ['id', 'ASC']],
@@ -93,7 +94,11 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
       const changed = Object.keys(action.answers).filter(k => JSON.stringify(visit.answers[k]) !== JSON.stringify(parsed.data[k]))
       const before = Object.fromEntries(changed.map(k => [k, visit.answers[k] ?? null]))
       const after = Object.fromEntries(changed.map(k => [k, parsed.data[k] ?? null]))
-      await visit.update({ answers: parsed.data, adopted: adoptedOf(parsed.data), version: visit.version + 1 }, { transaction })
+      // A corrected answer may move into or out of the edge of its range.
+      const edges = edgeValues(version!.definition.questions, parsed.data)
+      const { edgeValues: _old, ...otherFlags } = visit.flags
+      const flags = edges.length ? { ...otherFlags, edgeValues: edges } : otherFlags
+      await visit.update({ answers: parsed.data, adopted: adoptedOf(parsed.data), flags, version: visit.version + 1 }, { transaction })
       await audit(event, user, { ...base, details: { reason: action.reason, before, after } }, transaction)
     }
     return { id, reviewState: visit.reviewState, version: visit.version }

@@ -3,7 +3,7 @@ import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Assignment, Photo, User, Village, Visit } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
 import { objectSize } from '../support/object-store'
 import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
 
@@ -25,6 +25,19 @@ afterAll(async () => {
 // Answers for every question of the demo questionnaire.
 const NUMBERS: Record<string, string> = { farm_size_ha: '2.4', household_size: '6', schooling_years: '7', age_head: '41', dealer_distance_km: '8.5', livestock_tlu: '1.2' }
 const YESNO: Record<string, boolean> = { adopted: true, female_head: false, extension_contact: true, credit_access: false, group_member: true, owns_phone: true }
+
+async function signInOnTablet(page: Page) {
+  await page.goto('/signin?next=/field')
+  await waitForApp(page)
+  await page.getByLabel('E-mail').fill(demoUser('enumerator').email)
+  await page.getByLabel('Password').fill(DEMO.password)
+  await page.getByRole('button', { name: 'Sign in' }).click()
+  await page.waitForURL(url => url.pathname === '/field').catch(async (error) => {
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'field-signin-failed.png'), fullPage: true })
+    throw error
+  })
+  await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
+}
 
 async function recordVisit(page: Page, farmCode: string, photo?: Buffer) {
   await page.getByRole('link', { name: 'New visit' }).first().click()
@@ -48,18 +61,13 @@ describe('field capture on a tablet with no network', () => {
     const enumerator = await User.findOne({ where: { email: demoUser('enumerator').email } })
     const assignments = await Assignment.findAll({ where: { userId: enumerator!.id } })
     const villages = await Village.findAll({ where: { id: assignments.map(a => a.villageId) } })
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
     await context.grantPermissions(['geolocation'])
     await context.setGeolocation({ latitude: villages[0]!.centreLat, longitude: villages[0]!.centreLon, accuracy: 7 })
     let page = await context.newPage()
 
     // Online: sign in once; the app fetches the round and installs its service worker.
-    await page.goto('/signin?next=/field')
-    await page.getByLabel('E-mail').fill(demoUser('enumerator').email)
-    await page.getByLabel('Password').fill(DEMO.password)
-    await page.getByRole('button', { name: 'Sign in' }).click()
-    await page.waitForURL(url => url.pathname === '/field')
-    await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
+    await signInOnTablet(page)
     expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
     const photo = Buffer.from(await page.evaluate(() => {
       const canvas = document.createElement('canvas')
@@ -138,4 +146,44 @@ describe('field capture on a tablet with no network', () => {
     expect(await Visit.count({ where: { farmCode: codes } })).toBe(3)
     await context.close()
   }, 180_000)
+
+  it('shows both copies when a coordinator corrected a visit the tablet was editing, and lets the server copy win', async () => {
+    const context = await newTabletContext(browser)
+    await context.grantPermissions(['geolocation'])
+    await context.setGeolocation({ latitude: -13.4, longitude: 31.9, accuracy: 9 })
+    const page = await context.newPage()
+    await signInOnTablet(page)
+    const code = `E2E-CONFLICT-${Date.now().toString(36).toUpperCase()}`
+    await recordVisit(page, code)
+    await poll(() => page.getByTestId('count-synced').textContent(), 20_000).toBe('1')
+    const visit = (await Visit.findOne({ where: { farmCode: code } }))!
+    const coordinator = freshClient()
+    await coordinator.signIn(demoUser('coordinator').email)
+    await coordinator.post(`/api/review/visits/${visit.id}`, { action: 'send_back', reason: 'Ask again about livestock' })
+    await page.getByRole('button', { name: 'Sync now' }).click()
+    await poll(() => page.getByTestId('count-sent-back').textContent(), 20_000).toBe('1')
+
+    // Offline, the enumerator edits; meanwhile the coordinator corrects the same visit on the server.
+    await context.setOffline(true)
+    await page.locator('[data-testid="local-visit"][data-state="sent_back"]').getByRole('link').click()
+    await page.locator('#q-livestock_tlu').fill('2.5')
+    await page.getByRole('button', { name: 'Save visit' }).click()
+    await page.waitForURL(url => url.pathname === '/field')
+    expect((await coordinator.post(`/api/review/visits/${visit.id}`, { action: 'correct', answers: { farm_size_ha: 3.3 }, reason: 'Confirmed by phone' })).status).toBe(200)
+    await context.setOffline(false)
+    await poll(() => page.locator('[data-testid="local-visit"][data-state="conflict"]').count(), 30_000).toBe(1)
+
+    await page.locator('[data-testid="local-visit"][data-state="conflict"]').getByRole('link').click()
+    const conflict = page.getByTestId('visit-conflict')
+    await poll(() => conflict.textContent()).toContain('Changed on the server')
+    const farmRow = conflict.locator('tr', { hasText: 'Farm size' })
+    expect((await farmRow.locator('td').allTextContents()).map(t => t.trim())).toEqual(['Farm size', '2.4', '3.3'])
+    const livestockRow = conflict.locator('tr', { hasText: 'Livestock owned' })
+    expect((await livestockRow.locator('td').allTextContents()).map(t => t.trim())).toEqual(['Livestock owned', '2.5', '1.2'])
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'field-conflict.png'), fullPage: true })
+    await page.getByRole('button', { name: 'Keep the server\'s version' }).click()
+    await poll(() => page.locator('#q-farm_size_ha').inputValue()).toBe('3.3')
+    expect((await Visit.findByPk(visit.id))!.answers).toMatchObject({ farm_size_ha: 3.3, livestock_tlu: 1.2 })
+    await context.close()
+  }, 120_000)
 })

@@ -3,7 +3,7 @@ import type { Browser } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { User, Visit } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
 import { makeRound, makeVisit } from '../support/field'
 import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
 
@@ -37,6 +37,7 @@ describe('the coordinator reviews visits in the browser', () => {
     const context = await newTabletContext(browser)
     const page = await context.newPage()
     await page.goto(`/signin?next=${encodeURIComponent(`/review?roundId=${round.roundId}`)}`)
+    await waitForApp(page)
     await page.getByLabel('E-mail').fill(demoUser('coordinator').email)
     await page.getByLabel('Password').fill(DEMO.password)
     await page.getByRole('button', { name: 'Sign in' }).click()

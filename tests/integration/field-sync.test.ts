@@ -125,6 +125,11 @@ describe('sync: bad input gets a clear 4xx and stores nothing', () => {
     expect(answer.body.results[0]!.errors).toEqual({ roundId: 'This round is not open for visits' })
   })
 
+  it('refuses an oversized body with 413 before reading it', async () => {
+    const answer = await enumerator.request<SyncBody>('POST', '/api/sync/visits', undefined, JSON.stringify({ visits: [{ note: 'x'.repeat(4 * 1024 * 1024) }] }))
+    expect(answer.status).toBe(413)
+  })
+
   it('answers 403 to a coordinator posting visits', async () => {
     expect((await sync([makeVisit(round)], coordinator)).status).toBe(403)
   })
@@ -138,6 +143,10 @@ describe('sync: the server wins over a stale device edit', () => {
     expect(corrected.status).toBe(200)
     const entry = await AuditEntry.findOne({ where: { action: 'visit.correct', entityId: visit.id } })
     expect(entry!.details).toMatchObject({ before: { farm_size_ha: 3 }, after: { farm_size_ha: 3.5 } })
+    // A correction is checked with the visit's own questionnaire version, and recomputes the edge flag.
+    const outOfRange = await coordinator.post<{ message: string }>(`/api/review/visits/${visit.id}`, { action: 'correct', answers: { farm_size_ha: 80 }, reason: 'Typo' })
+    expect(outOfRange.status).toBe(400)
+    expect(outOfRange.body.message).toBe('farm_size_ha: At most 50 ha')
 
     const staleEdit = { ...visit, baseVersion: 1, answers: { ...visit.answers, household_size: 7 } }
     const answer = await sync([staleEdit])

@@ -107,6 +107,7 @@ export function adoptedOf(answers: Answers): 0 | 1 {
 
 /** The sync envelope: at most 500 records; each record is checked on its own so one bad record spoils nothing else. */
 export const SYNC_BATCH_MAX = 500
+export const SYNC_BODY_MAX_BYTES = 4 * 1024 * 1024
 export const syncBatchSchema = z.object({
   visits: z.array(z.unknown()).min(1, 'Send at least one visit').max(SYNC_BATCH_MAX, `Send at most ${SYNC_BATCH_MAX} visits per batch`)
 })
