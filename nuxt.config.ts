@@ -86,7 +86,21 @@ export default defineNuxtConfig({
       additionalManifestEntries: [{ url: '/field', revision: BUILD_ID }],
       globPatterns: ['**/*.{js,css,html,svg,png,woff,woff2,json}'],
       // The map's base layer (Natural Earth outlines, about 750 kB) must be there offline.
-      maximumFileSizeToCacheInBytes: 3 * 1024 * 1024
+      maximumFileSizeToCacheInBytes: 3 * 1024 * 1024,
+      // The adoption map opens offline with the figures last seen online: its page and its aggregate data
+      // are kept network-first (the network always wins when there is one).
+      runtimeCaching: [
+        {
+          urlPattern: ({ url, request }) => request.mode === 'navigate' && url.pathname === '/overview',
+          handler: 'NetworkFirst',
+          options: { cacheName: 'furrowcast-overview-pages', networkTimeoutSeconds: 6 }
+        },
+        {
+          urlPattern: ({ url }) => url.pathname.startsWith('/api/overview'),
+          handler: 'NetworkFirst',
+          options: { cacheName: 'furrowcast-overview-data', networkTimeoutSeconds: 6 }
+        }
+      ]
     },
     client: { installPrompt: true }
   },

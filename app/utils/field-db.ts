@@ -45,7 +45,8 @@ export interface LocalPhoto {
 }
 
 export interface CacheEntry {
-  key: 'setup' | 'lastSyncAt' | 'statesSince'
+  /** `model:<roundId>`: the round's published model for the planning aid, when switched on. */
+  key: 'setup' | 'lastSyncAt' | 'statesSince' | `model:${number}`
   value: unknown
 }
 

@@ -2,7 +2,8 @@ import path from 'node:path'
 import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
-import { Round, Visit } from '../../server/db/models'
+import { Publication, Round, Visit } from '../../server/db/models'
+import { predictFarm } from '../../shared/utils/modelling/farm-prediction'
 import { ADOPTION_PALETTE } from '../../shared/utils/map-palette'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { DEMO, baseUrl, demoUser } from '../support/server'
@@ -74,6 +75,7 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await page.screenshot({ path: path.join(SCREENSHOTS, 'model-results.png'), fullPage: true })
 
     await page.getByLabel('Note for readers').fill('Results of the first sorghum round')
+    await page.getByLabel('Show the planning aid on enumerators\' tablets').check()
     await page.getByRole('button', { name: /Publish this fit/ }).click()
     await expect.poll(() => page.getByRole('status').filter({ hasText: 'Published' }).count()).toBe(1)
     await context.close()
@@ -95,6 +97,68 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     const after = await page.getByTestId('map-village').locator('[data-colour]').evaluateAll(els => els.map(e => e.getAttribute('data-colour')))
     expect(after).not.toEqual(before)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'funder-map.png'), fullPage: true })
+    await context.close()
+  })
+
+  it('still draws the base layer and the villages with the network cut', async () => {
+    const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
+    const page = await context.newPage()
+    await signIn(page, 'funder', '/overview')
+    expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
+    // Once the worker controls the page, one online visit leaves the page and its data in its cache.
+    await page.reload()
+    await expect.poll(() => page.evaluate(() => navigator.serviceWorker.controller !== null)).toBe(true)
+    await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-villages-drawn')).toBe('24')
+    await context.setOffline(true)
+    await page.reload()
+    await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-villages-drawn'), { timeout: 20_000 }).toBe('24')
+    await expect.poll(() => paletteColoursOnMap(page)).toBeGreaterThan(0)
+    // The base layer is drawn from the outlines shipped with the app: its land colour is on the canvas.
+    expect(await page.evaluate(() => [...document.querySelectorAll<HTMLCanvasElement>('[data-testid="adoption-map"] canvas')].some((canvas) => {
+      const data = canvas.getContext('2d')!.getImageData(0, 0, canvas.width, canvas.height).data
+      for (let i = 0; i < data.length; i += 4) if (data[i] === 0xEC && data[i + 1] === 0xE6 && data[i + 2] === 0xD3) return true
+      return false
+    }))).toBe(true)
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'funder-map-offline.png') })
+    await context.close()
+  })
+
+  it('shows an enumerator offline the same predicted probability as the published model gives on the server', async () => {
+    const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
+    const page = await context.newPage()
+    await signIn(page, 'enumerator', '/field')
+    expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
+    await expect.poll(() => page.getByTestId('field-village').count(), { timeout: 20_000 }).toBeGreaterThan(0)
+    // Opening a visit online puts the published model on the tablet.
+    await page.getByRole('link', { name: 'New visit' }).first().click()
+    await page.waitForURL(/\/field\/visit\?id=/)
+    await expect.poll(() => page.getByTestId('planning-aid').count(), { timeout: 15_000 }).toBe(1)
+    await context.setOffline(true)
+    await page.reload()
+    await expect.poll(() => page.getByTestId('planning-aid').count(), { timeout: 15_000 }).toBe(1)
+    await page.locator('#q-dealer_distance_km').fill('8.5')
+    await page.locator('input[name="q-extension_contact"][value="false"]').check({ force: true })
+    await page.locator('input[name="q-female_head"][value="true"]').check({ force: true })
+    await expect.poll(() => page.getByTestId('planning-aid').getAttribute('data-probability')).not.toBe('')
+    const onTablet = Number(await page.getByTestId('planning-aid').getAttribute('data-probability'))
+    // The server side: the active publication's frozen coefficients and plan, through the engine in Node.
+    const publication = await Publication.findOne({ where: { roundId, active: true } })
+    const { link, plan, coefficients } = publication!.content
+    const onServer = predictFarm({ publicationId: publication!.id, link, plan, coefficients }, { dealer_distance_km: 8.5, extension_contact: false, female_head: true })
+    expect(onTablet).toBeCloseTo(onServer!.probability, 12)
+    expect(await page.getByTestId('planning-aid').textContent()).toMatch(/not an eligibility decision/)
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'tablet-planning-aid.png'), fullPage: true })
+    await context.close()
+  })
+
+  it('never gives a funder household-level routes', async () => {
+    const context = await newTabletContext(browser)
+    const page = await context.newPage()
+    await signIn(page, 'funder', '/')
+    for (const url of ['/api/review/visits', '/api/review/photos/00000000-0000-4000-8000-000000000000', '/api/sync/visits', '/api/models?roundId=1', `/api/models/questions?roundId=${roundId}`]) {
+      const answer = await page.request.get(url)
+      expect(answer.status(), url).toBe(403)
+    }
     await context.close()
   })
 })
