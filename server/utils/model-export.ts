@@ -1,12 +1,7 @@
 import { MODEL_CAUTIONS } from '#shared/utils/cautions'
 import type { ModelRun } from '../db/models'
 
-function csvCell(value: unknown): string {
-  const text = value === null || value === undefined ? '' : String(value)
-  return /[",\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text
-}
-
-const row = (cells: unknown[]) => cells.map(csvCell).join(',')
+const row = csvRow
 
 /** A run's tables as CSV, the cautions first, so they travel with the numbers. */
 export function runAsCsv(run: ModelRun, villageNames: Record<string, string>): string {

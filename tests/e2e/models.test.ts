@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs'
 import path from 'node:path'
 import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
@@ -74,10 +75,49 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await expect.poll(() => page.getByTestId('margins-table').locator('caption').textContent()).toMatch(/at the means/)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'model-results.png'), fullPage: true })
 
+    // A scenario through the form, then the export of the tables.
+    await page.getByLabel('Scenario name').fill('extension for all')
+    await page.getByLabel('Characteristic').selectOption({ label: 'Contact with an extension officer last season?' })
+    await page.locator('#scenario-value').selectOption('yes')
+    await page.getByRole('button', { name: 'Predict adoption under this scenario' }).click()
+    await expect.poll(() => page.getByTestId('scenario-result').filter({ hasText: 'extension for all' }).count(), { timeout: 20_000 }).toBe(1)
+    expect(await page.getByTestId('scenario-result').filter({ hasText: 'extension for all' }).textContent()).toMatch(/a change of [\d.]+ points/)
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('link', { name: 'Export CSV' }).click()])
+    const csv = readFileSync((await download.path())!, 'utf8')
+    expect(csv).toMatch(/^# These are associations/)
+    expect(csv).toMatch(/^coefficient,Distance to the nearest input dealer \(km\),-0\.\d+/m)
+
     await page.getByLabel('Note for readers').fill('Results of the first sorghum round')
     await page.getByLabel('Show the planning aid on enumerators\' tablets').check()
     await page.getByRole('button', { name: /Publish this fit/ }).click()
     await expect.poll(() => page.getByRole('status').filter({ hasText: 'Published' }).count()).toBe(1)
+    await context.close()
+  })
+
+  it('fits a logit on the same specification and compares it with the probit side by side', async () => {
+    const context = await newTabletContext(browser)
+    const page = await context.newPage()
+    await signIn(page, 'coordinator', '/models')
+    await page.goto(`/models?round=${roundId}`)
+    await page.getByLabel('Distance to the nearest input dealer').check()
+    await page.getByLabel('Contact with an extension officer last season?').check()
+    await page.getByLabel('Is the household headed by a woman?').check()
+    await page.getByLabel('Distribution function F').selectOption('logit')
+    await expect.poll(() => page.getByTestId('model-preview').textContent(), { timeout: 15_000 }).toMatch(/Λ\(β₀/)
+    await page.getByRole('button', { name: 'Fit the model' }).click()
+    await page.waitForURL(/\/models\/\d+$/)
+    await expect.poll(() => page.getByTestId('margins-table').count(), { timeout: 30_000 }).toBe(1)
+    await page.getByRole('link', { name: 'All fits of this round' }).click()
+    await expect.poll(() => page.getByTestId('run-row').count()).toBeGreaterThanOrEqual(2)
+    // The two newest fits: this logit and the probit published above.
+    const boxes = page.getByTestId('run-row').locator('input[type="checkbox"]')
+    await boxes.nth(0).check()
+    await boxes.nth(1).check()
+    await page.getByRole('link', { name: 'Compare 2 fits' }).click()
+    await page.waitForURL(/\/models\/compare\?ids=/)
+    await expect.poll(() => page.getByTestId('compare-fit').textContent()).toMatch(/probit[\s\S]*logit|logit[\s\S]*probit/)
+    expect(await page.getByTestId('lr-tests').textContent()).toMatch(/different links|not nested|None of these fits is nested/)
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'model-compare.png'), fullPage: true })
     await context.close()
   })
 

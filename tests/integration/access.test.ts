@@ -46,7 +46,8 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path:
   { method: 'DELETE', path: '/api/publications/999999', roles: ['coordinator'], ok: 404 },
   { method: 'GET', path: '/api/overview', roles: ['funder', 'coordinator'] },
   { method: 'GET', path: '/api/overview/999999', roles: ['funder', 'coordinator'], ok: 404 },
-  { method: 'GET', path: '/api/field/model?roundId=:round', roles: ['enumerator'] }
+  { method: 'GET', path: '/api/field/model?roundId=:round', roles: ['enumerator'] },
+  { method: 'GET', path: '/api/rounds/:round/export', roles: ['coordinator'] }
 ]
 
 // Public routes answer without a session (here 400 to an empty body), never 401.

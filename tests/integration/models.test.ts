@@ -187,3 +187,29 @@ describe('fitting a model of the demo round', () => {
     })
   })
 })
+
+describe('round exports for coordinators', () => {
+  it('exports the accepted visits with a column per question, and a data dictionary for those columns', async () => {
+    const visits = await coordinator.request('GET', `/api/rounds/${roundId}/export?part=visits`)
+    expect(visits.status).toBe(200)
+    expect(visits.headers.get('content-type')).toMatch(/text\/csv/)
+    const lines = String(visits.body).trim().split('\n')
+    expect(lines[0]).toMatch(/^# These are associations/)
+    const header = lines.find(l => l.startsWith('visit_id,'))!.split(',')
+    expect(header).toEqual(expect.arrayContaining(['village_code', 'farm_code', 'adopted', 'dealer_distance_km', 'extension_contact']))
+    const dataRows = lines.slice(lines.indexOf(lines.find(l => l.startsWith('visit_id,'))!) + 1)
+    expect(dataRows).toHaveLength(await Visit.count({ where: { roundId, reviewState: 'accepted' } }))
+    expect(dataRows.every(r => /,(yes|no),/.test(r))).toBe(true)
+
+    const dictionary = await coordinator.request('GET', `/api/rounds/${roundId}/export?part=dictionary`)
+    const columns = String(dictionary.body).trim().split('\n').slice(1).map(l => l.split(',')[0])
+    for (const column of header) expect(columns).toContain(column)
+    expect(String(dictionary.body)).toMatch(/^dealer_distance_km,.*,number,km,/m)
+  })
+
+  it('refuses the exports to funders and enumerators, and answers 404 for an unknown round', async () => {
+    expect((await funder.get(`/api/rounds/${roundId}/export`)).status).toBe(403)
+    expect((await coordinator.get('/api/rounds/999999/export')).status).toBe(404)
+    expect((await coordinator.get(`/api/rounds/${roundId}/export?part=everything`)).status).toBe(400)
+  })
+})

@@ -1,0 +1,60 @@
+import { MODEL_CAUTIONS } from '#shared/utils/cautions'
+import type { Question } from '#shared/utils/schemas/questionnaire'
+import { QuestionnaireVersion, Village, Visit } from '../db/models'
+
+/**
+ * The accepted visits of a round, one row each, with a column per question of the current questionnaire.
+ * Household-level data: coordinators only, and the cautions travel in the first lines.
+ */
+export async function acceptedVisitsCsv(roundId: number, organisationId: number, currentVersionId: number | null): Promise<string> {
+  const questions = await currentQuestions(currentVersionId)
+  const [visits, villages] = await Promise.all([
+    Visit.findAll({ where: { roundId, organisationId, reviewState: 'accepted' }, order: [['id', 'ASC']] }),
+    Village.findAll({ where: { organisationId }, attributes: ['id', 'code', 'name'] })
+  ])
+  const village = new Map(villages.map(v => [v.id, v]))
+  const lines = [
+    ...MODEL_CAUTIONS.map(c => `# ${c}`),
+    csvRow(['visit_id', 'village_code', 'village', 'farm_code', 'saved_at', 'questionnaire_version_id', ...questions.map(q => q.key)])
+  ]
+  for (const v of visits) {
+    const answers = questions.map((q) => {
+      const value = v.answers[q.key]
+      return typeof value === 'boolean' ? (value ? 'yes' : 'no') : value
+    })
+    lines.push(csvRow([v.id, village.get(v.villageId)?.code, village.get(v.villageId)?.name, v.farmCode, v.savedAt.toISOString(), v.questionnaireVersionId, ...answers]))
+  }
+  return `${lines.join('\n')}\n`
+}
+
+/** The data dictionary of the export: what each column means, its type, unit and allowed answers. */
+export async function dataDictionaryCsv(currentVersionId: number | null): Promise<string> {
+  const questions = await currentQuestions(currentVersionId)
+  const fixed: Array<[string, string, string]> = [
+    ['visit_id', 'Identifier made on the tablet (UUID)', 'text'],
+    ['village_code', 'Village code', 'text'],
+    ['village', 'Village name', 'text'],
+    ['farm_code', 'Farm code given by the programme', 'text'],
+    ['saved_at', 'When the visit was saved (UTC, ISO 8601)', 'date-time'],
+    ['questionnaire_version_id', 'The questionnaire version the visit was answered with', 'whole number']
+  ]
+  const lines = [csvRow(['column', 'meaning', 'type', 'unit', 'allowed answers', 'required'])]
+  for (const [column, meaning, type] of fixed) lines.push(csvRow([column, meaning, type, '', '', 'yes']))
+  for (const q of questions) {
+    const allowed = q.type === 'choice'
+      ? q.options.map(o => `${o.value} = ${o.label}`).join('; ')
+      : q.type === 'yesno'
+        ? 'yes; no'
+        : (q.type === 'number' || q.type === 'whole')
+            ? [q.min !== undefined ? `min ${q.min}` : '', q.max !== undefined ? `max ${q.max}` : ''].filter(Boolean).join(', ')
+            : ''
+    const unit = q.type === 'number' || q.type === 'whole' ? q.unit ?? '' : ''
+    lines.push(csvRow([q.key, q.help ? `${q.label} (${q.help})` : q.label, q.type, unit, allowed, q.required ? 'yes' : 'no']))
+  }
+  return `${lines.join('\n')}\n`
+}
+
+async function currentQuestions(versionId: number | null): Promise<Question[]> {
+  if (!versionId) return []
+  return (await QuestionnaireVersion.findByPk(versionId))?.definition.questions ?? []
+}
