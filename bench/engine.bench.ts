@@ -15,6 +15,7 @@ import { dirname, join } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { computeCovariance, designFromMatrix, fitBinary, marginalEffects } from '../shared/utils/stats/index'
 import { mergeResults, printTable, round, type BenchEntry } from './lib/results-file'
+import { normal, prng } from '../shared/utils/random/prng'
 
 const here = dirname(fileURLToPath(import.meta.url))
 const tmpDir = join(here, 'tmp')
@@ -22,22 +23,6 @@ const SIZES = [1e4, 1e5, 1e6]
 const K = 10
 const CLUSTERS = 500
 const PYTHON = '/usr/bin/python3'
-
-/** mulberry32: small deterministic PRNG. */
-function prng(seed: number): () => number {
-  let a = seed >>> 0
-  return () => {
-    a = (a + 0x6D2B79F5) >>> 0
-    let t = a
-    t = Math.imul(t ^ (t >>> 15), t | 1)
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61)
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296
-  }
-}
-
-function normal(u: () => number): number {
-  return Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u())
-}
 
 /** Values rounded to 1e-6 so that the CSV text is exactly the doubles we fit. */
 function round6(v: number): number {

@@ -20,3 +20,8 @@ export function stars(p: number | null | undefined): string {
   if (p === null || p === undefined) return ''
   return p < 0.01 ? '●●' : p < 0.05 ? '●' : ''
 }
+
+/** How the standard errors of a run were computed, in words. */
+export function seLabelOf(type: string | undefined): string {
+  return ({ cluster: 'clustered by village', conventional: 'conventional', hc0: 'robust (HC0)', hc1: 'robust (HC1)' } as Record<string, string>)[type ?? ''] ?? ''
+}

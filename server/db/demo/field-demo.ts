@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto'
 import { type Question, outcomeQuestion } from '../../../shared/utils/schemas/questionnaire'
 import { intrinsicFlags } from '../../utils/visit-flags'
+import { normal, prng } from '../../../shared/utils/random/prng'
 
 // The demo round's data, generated from a known probit model with a village random effect.
 // Deterministic: the same seed gives the same villages and visits. The true coefficients are in README.md.
@@ -34,22 +35,6 @@ const VILLAGE_NAMES = [
 
 /** An invented place: a district centre and villages scattered within about 30 km of it. */
 const DISTRICT_CENTRE = { lat: -13.42, lon: 31.87 }
-
-/** mulberry32: a small deterministic PRNG. */
-export function prng(seed: number): () => number {
-  let a = seed >>> 0
-  return () => {
-    a = (a + 0x6D2B79F5) >>> 0
-    let t = a
-    t = Math.imul(t ^ (t >>> 15), t | 1)
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61)
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296
-  }
-}
-
-function normal(u: () => number): number {
-  return Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u())
-}
 
 const clip = (v: number, lo: number, hi: number) => Math.min(hi, Math.max(lo, v))
 const round1 = (v: number) => Math.round(v * 10) / 10

@@ -14,21 +14,10 @@ import {
   buildDesign, computeCovariance, fitBinary, fitStatistics, marginalEffects, type CovariateSpec, type Design, type FitResult, type LinkName
 } from '../../../shared/utils/stats/index'
 import { relErr } from './helpers'
+import { normal, prng } from '../../../shared/utils/random/prng'
 
 const PY = '/usr/bin/python3'
 const script = fileURLToPath(new URL('../../reference/statsmodels_diff.py', import.meta.url))
-
-function prng(seed: number): () => number {
-  let a = seed >>> 0
-  return () => {
-    a = (a + 0x6D2B79F5) >>> 0
-    let t = a
-    t = Math.imul(t ^ (t >>> 15), t | 1)
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61)
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296
-  }
-}
-const gauss = (u: () => number): number => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u())
 
 interface Case { id: string, link: LinkName, design: Design, fit: FitResult, weighted: boolean, clustered: boolean, categorical: boolean }
 
@@ -47,7 +36,7 @@ function makeCase(seed: number): Case {
     const r: Record<string, unknown> = {}
     let eta = rare ? -1.9 : 0.1
     for (let j = 0; j < kNum; j++) {
-      const v = j % 2 ? Math.exp(0.5 * gauss(u)) : gauss(u)
+      const v = j % 2 ? Math.exp(0.5 * normal(u)) : normal(u)
       r[`x${j}`] = v
       eta += (0.4 - 0.15 * j) * v
     }
@@ -59,7 +48,7 @@ function makeCase(seed: number): Case {
     const g = Math.floor(u() * G)
     r.village = `v${g}`
     r.w = 0.5 + 2 * u()
-    r.y = eta + (rare ? 0.5 : 0.8) * gauss(u) > 0 ? 1 : 0
+    r.y = eta + (rare ? 0.5 : 0.8) * normal(u) > 0 ? 1 : 0
     rows.push(r)
   }
   const covariates: CovariateSpec[] = Array.from({ length: kNum }, (_, j) => ({ name: `x${j}` }))
