@@ -34,7 +34,8 @@ export default defineConfig({
           include: ['tests/e2e/**/*.test.ts'],
           sequence: { groupOrder: 2 },
           environment: 'node',
-          testTimeout: 60_000,
+          // Generous: a browser test waits on builds of pages, fits and service workers on a 2-core machine.
+          testTimeout: 120_000,
           hookTimeout: 60_000,
           fileParallelism: false
         }

@@ -20,7 +20,7 @@ export async function seedDemo(sequelize: Sequelize, hash: (password: string) =>
     const organisation = await Organisation.create({
       name: DEMO_ORGANISATION.name,
       slug: DEMO_ORGANISATION.slug,
-      settings: DEFAULT_ORGANISATION_SETTINGS
+      settings: { ...DEFAULT_ORGANISATION_SETTINGS, funderOrganisations: [demo.funderOrganisation] }
     }, { transaction })
     await User.bulkCreate(DEMO_USERS.map(user => ({
       ...user,

@@ -1,20 +1,29 @@
 import { Op } from 'sequelize'
 import type { MapVillage } from '#shared/types/overview'
-import { Organisation, Publication, Round, Village } from '../db/models'
+import { funderOrganisationOf } from '#shared/utils/funders'
+import { Organisation, Publication, Round, Village, settingsOf } from '../db/models'
 import type { SignedInUser } from './access'
 
 // Everything here is built from frozen publications and village records: no visit, answer, photo, GPS point
 // or enumerator ever passes through, so a funder cannot reach household data by any route that uses it.
 
-async function minimumVisits(organisationId: number): Promise<number> {
-  const organisation = await Organisation.findByPk(organisationId)
-  return organisation?.settings.minVisitsForFunders ?? 5
+/**
+ * The organisation's small-cell threshold, after checking that a funder's e-mail domain is one of the funder
+ * organisations the admins listed in the settings (an empty list shares with no funder).
+ */
+async function minimumVisits(user: SignedInUser): Promise<number> {
+  const organisation = await Organisation.findByPk(user.organisationId)
+  const settings = organisation ? settingsOf(organisation) : null
+  if (user.role === 'funder' && !funderOrganisationOf(user.email, settings?.funderOrganisations ?? [])) {
+    throw createError({ statusCode: 403, message: 'Your organisation is not on this programme\'s list of funders. Ask its administrator to add it.' })
+  }
+  return settings?.minVisitsForFunders ?? 5
 }
 
 export async function publishedRounds(user: SignedInUser) {
   const publications = await Publication.findAll({ where: { organisationId: user.organisationId, active: true }, order: [['createdAt', 'DESC']] })
   const rounds = await Round.findAll({ where: { id: { [Op.in]: publications.map(p => p.roundId) } } })
-  const minVisits = await minimumVisits(user.organisationId)
+  const minVisits = await minimumVisits(user)
   return publications.map((p) => {
     const round = rounds.find(r => r.id === p.roundId)
     const shown = p.content.villages.filter(v => v.n >= minVisits)
@@ -41,7 +50,7 @@ export async function publishedRounds(user: SignedInUser) {
 export async function publishedMap(user: SignedInUser, roundId: number): Promise<{ villages: MapVillage[], scenarios: string[], previous: { round: string, predicted: number } | null }> {
   const publication = await Publication.findOne({ where: { organisationId: user.organisationId, roundId, active: true } })
   if (!publication) throw createError({ statusCode: 404, message: 'This round has no published results.' })
-  const minVisits = await minimumVisits(user.organisationId)
+  const minVisits = await minimumVisits(user)
   const places = await Village.findAll({ where: { organisationId: user.organisationId, code: { [Op.in]: publication.content.villages.map(v => v.village) } } })
   const villages = publication.content.villages.flatMap((v): MapVillage[] => {
     const place = places.find(p => p.code === v.village)

@@ -1,7 +1,8 @@
 import type { H3Event } from 'h3'
 import type { PublishRequest } from '#shared/utils/modelling/request'
 import { database } from '../db/connection'
-import { Organisation, Publication, Round, User, type ModelRun } from '../db/models'
+import { funderOrganisationOf } from '#shared/utils/funders'
+import { Organisation, Publication, Round, User, settingsOf, type ModelRun } from '../db/models'
 import type { SignedInUser } from './access'
 
 /**
@@ -69,7 +70,8 @@ async function notifyPublished(round: Round, publication: Publication) {
     User.findAll({ where: { organisationId: publication.organisationId, role: 'funder', active: true } })
   ])
   const link = `${serverConfig().PUBLIC_URL}/overview?round=${round.id}`
-  for (const funder of funders) {
+  const listed = organisation ? settingsOf(organisation).funderOrganisations : []
+  for (const funder of funders.filter(f => funderOrganisationOf(f.email, listed))) {
     const mail = roundPublishedMail({ funderName: funder.name, organisationName: organisation?.name ?? '', roundName: round.name, link })
     await queueMail({ ...mail, to: funder.email, kind: 'round-published', organisationId: publication.organisationId, userId: funder.id })
   }

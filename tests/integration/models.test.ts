@@ -1,7 +1,7 @@
 import { readFileSync, readdirSync } from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { AuditEntry, ModelRun, Organisation, Visit, Village } from '../../server/db/models'
+import { AuditEntry, ModelRun, Organisation, Publication, Round, Visit, Village } from '../../server/db/models'
 import { runModel } from '../../shared/utils/stats'
 import type { ModelRunDetail, ModelRunSummary } from '../../shared/types/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
@@ -169,6 +169,31 @@ describe('fitting a model of the demo round', () => {
       finally {
         await organisation!.update({ settings })
       }
+    })
+
+    it('shares results only with funders whose organisation the admins listed, and shows the change from an earlier round', async () => {
+      const organisation = await Organisation.findOne({ where: { id: (await Round.findByPk(roundId))!.organisationId } })
+      const settings = organisation!.settings
+      await organisation!.update({ settings: { ...settings, funderOrganisations: [] } })
+      try {
+        const refused = await funder.get('/api/overview')
+        expect(refused.status).toBe(403)
+        expect(refused.body.message).toMatch(/not on this programme's list of funders/)
+        expect((await funder.get(`/api/overview/${roundId}`)).status).toBe(403)
+        // A coordinator of the programme still sees the map.
+        expect((await coordinator.get(`/api/overview/${roundId}`)).status).toBe(200)
+      }
+      finally {
+        await organisation!.update({ settings })
+      }
+      // An earlier round of the same technology, published with other figures: the map reports it as the previous one.
+      const current = await Publication.findOne({ where: { roundId, active: true } })
+      const round = await Round.findByPk(roundId)
+      const earlier = await Round.create({ organisationId: round!.organisationId, name: 'Sorghum seed adoption, long rains (earlier)', technology: round!.technology, season: 'earlier', status: 'closed', currentVersionId: null })
+      const content = { ...current!.content, overall: { ...current!.content.overall, estimate: 0.21 } }
+      await Publication.create({ organisationId: round!.organisationId, roundId: earlier.id, modelRunId: current!.modelRunId, note: 'earlier', content, publishedBy: current!.publishedBy, withdrawnAt: null })
+      const map = await funder.get<{ previous: { round: string, predicted: number } | null }>(`/api/overview/${roundId}`)
+      expect(map.body.previous).toEqual({ round: 'Sorghum seed adoption, long rains (earlier)', predicted: 0.21 })
     })
 
     it('audits replacing and withdrawing, after which funders see nothing of the round', async () => {

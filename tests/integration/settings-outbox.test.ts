@@ -6,12 +6,19 @@ import { inviteThroughMail } from '../support/team'
 
 let admin: Client
 
+// The demo organisation's settings as seeded: put back afterwards, since later tests rely on its funder list.
+let seeded: Organisation['settings']
+
 beforeAll(async () => {
   testDatabase()
   admin = freshClient()
   await admin.signIn(demoUser('admin').email)
+  seeded = (await Organisation.findOne({ where: { slug: DEMO.organisation.slug } }))!.settings
 })
-afterAll(closeTestDatabase)
+afterAll(async () => {
+  await Organisation.update({ settings: seeded }, { where: { slug: DEMO.organisation.slug } })
+  await closeTestDatabase()
+})
 
 const SETTINGS = {
   name: DEMO.organisation.name,
