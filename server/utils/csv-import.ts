@@ -7,6 +7,7 @@ import {
 } from '#shared/utils/schemas/csv-import'
 import { type Question, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
 import { adoptedOf } from '#shared/utils/schemas/visit'
+import { fieldErrorsOf, summaryOf } from '#shared/utils/zod-errors'
 import { type CheckedRow, CsvFileError, type ParsedCsv, checkRows, mappingErrors, parseCsv, rejectedRowsCsv } from '#shared/utils/imports/csv-rows'
 import { ImportBatch, QuestionnaireVersion, RoundVillage, User, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'

@@ -253,7 +253,7 @@ describe('import: all-or-nothing, valid-only, marked as imported, audited', () =
 describe('an outside dataset imported and fitted reproduces its reference coefficients', () => {
   it('Spector & Mazzeo (1980): probit of grade on average, testscore and participation', async () => {
     const tag = Date.now().toString(36).toUpperCase()
-    const village = await coordinator.post<{ id: number, code: string }>('/api/villages', { code: `PE${tag}`, name: `Kasembe ${tag}`, district: 'Lowland district', centreLat: -12.9, centreLon: 31.2 })
+    const village = await coordinator.post<{ id: number, code: string }>('/api/villages', { code: `PE${tag}`, name: `Reference village ${tag}`, district: 'Test district', centreLat: -12.9, centreLon: 31.2 })
     expect(village.status).toBe(200)
     const created = await coordinator.post<{ id: number }>('/api/rounds', { name: `Past study ${tag}`, technology: 'the new teaching method', season: '1980' })
     const roundId = created.body.id
