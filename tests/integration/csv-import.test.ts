@@ -147,6 +147,44 @@ describe('files that cannot be read get a clear 400, and nothing is written', ()
   })
 })
 
+describe('a body sent without a declared length', () => {
+  it('is refused with 413 as soon as it passes the limit', async () => {
+    const answer = await chunkedPost(importsOf(round.roundId), 24)
+    expect(answer.status).toBe(413)
+    expect(JSON.parse(answer.text).message).toMatch(/larger than the 10 MB limit/)
+  })
+})
+
+/** Streams megabytes of JSON text with no content-length (chunked) and resolves on the answer. */
+function chunkedPost(route: string, megabytes: number): Promise<{ status: number, text: string }> {
+  return new Promise((resolve, reject) => {
+    const req = request(`${baseUrl()}${route}`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json', 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.77.1.3' }
+    }, (res) => {
+      let text = ''
+      res.setEncoding('utf8')
+      res.on('data', (c: string) => (text += c))
+      res.on('end', () => {
+        resolve({ status: res.statusCode!, text })
+        req.destroy()
+      })
+    })
+    req.on('error', reject)
+    req.write('{"csv":"')
+    const chunk = 'x'.repeat(1024 * 1024)
+    let sent = 0
+    const more = () => {
+      while (sent < megabytes) {
+        sent++
+        if (!req.write(chunk)) return void req.once('drain', more)
+      }
+      req.end('"}')
+    }
+    more()
+  })
+}
+
 /** Posts raw bytes with a chosen content-length and resolves on the answer, whether or not the body was all sent. */
 function rawPost(route: string, bytes: Buffer, declaredLength: number): Promise<{ status: number, text: string }> {
   return new Promise((resolve, reject) => {
