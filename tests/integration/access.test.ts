@@ -27,6 +27,8 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path:
   { method: 'PUT', path: '/api/rounds/:round/questionnaire', roles: ['coordinator'], ok: 400 },
   { method: 'PUT', path: '/api/rounds/:round/villages', roles: ['coordinator'], ok: 400 },
   { method: 'PUT', path: '/api/rounds/:round/assignments', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/rounds/:round/imports/preview', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/rounds/:round/imports', roles: ['coordinator'], ok: 400 },
   { method: 'GET', path: '/api/villages', roles: ['coordinator'] },
   { method: 'POST', path: '/api/villages', roles: ['coordinator'], ok: 400 },
   { method: 'GET', path: '/api/review/visits', roles: ['coordinator'] },

@@ -3,6 +3,7 @@ import { Assignment } from './assignment'
 import { AuditEntry } from './audit-entry'
 import { MAIL_STATUSES, MailMessage, type MailStatus } from './mail-message'
 import { ModelRun } from './model-run'
+import { IMPORT_MODES, ImportBatch, type ImportMode } from './import-batch'
 import { DEFAULT_ORGANISATION_SETTINGS, Organisation, settingsOf, type FunderOrganisation, type OrganisationSettings } from './organisation'
 import { Photo } from './photo'
 import { Publication } from './publication'
@@ -14,12 +15,12 @@ import { SignInAttempt } from './sign-in-attempt'
 import { User } from './user'
 import { TOKEN_PURPOSES, UserToken, type TokenPurpose } from './user-token'
 import { Village } from './village'
-import { REVIEW_STATES, Visit, type ReviewState, type VisitFlags } from './visit'
+import { REVIEW_STATES, VISIT_SOURCES, Visit, type ReviewState, type VisitFlags, type VisitSource } from './visit'
 
 export { AuditEntry, DEFAULT_ORGANISATION_SETTINGS, MAIL_STATUSES, MailMessage, Organisation, RateEvent, SignInAttempt, TOKEN_PURPOSES, User, UserToken, settingsOf }
 export { Assignment, Photo, QuestionnaireVersion, REVIEW_STATES, ROUND_STATUSES, Round, RoundVillage, Village, Visit }
-export { ModelRun, Publication }
-export type { FunderOrganisation, MailStatus, OrganisationSettings, ReviewState, RoundStatus, TokenPurpose, VisitFlags }
+export { IMPORT_MODES, ImportBatch, ModelRun, Publication, VISIT_SOURCES }
+export type { FunderOrganisation, ImportMode, VisitSource, MailStatus, OrganisationSettings, ReviewState, RoundStatus, TokenPurpose, VisitFlags }
 
 export function initModels(sequelize: Sequelize): void {
   Organisation.initModel(sequelize)
@@ -46,4 +47,5 @@ export function initModels(sequelize: Sequelize): void {
 
   ModelRun.initModel(sequelize)
   Publication.initModel(sequelize)
+  ImportBatch.initModel(sequelize)
 }

@@ -2,6 +2,8 @@ import { DataTypes, Model, type CreationOptional, type InferAttributes, type Inf
 
 export const REVIEW_STATES = ['received', 'accepted', 'sent_back'] as const
 export type ReviewState = typeof REVIEW_STATES[number]
+export const VISIT_SOURCES = ['device', 'import'] as const
+export type VisitSource = typeof VISIT_SOURCES[number]
 
 /** Quality flags the server computes on every stored visit. */
 export interface VisitFlags {
@@ -34,6 +36,9 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
   declare flags: VisitFlags
   declare deviceHash: string
   declare version: CreationOptional<number>
+  /** 'import' for past survey data loaded from a CSV file (then importId names the import). */
+  declare source: CreationOptional<VisitSource>
+  declare importId: CreationOptional<number | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -60,6 +65,8 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
       flags: { type: DataTypes.JSON, allowNull: false },
       deviceHash: { type: DataTypes.CHAR(64), allowNull: false },
       version: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 1 },
+      source: { type: DataTypes.ENUM(...VISIT_SOURCES), allowNull: false, defaultValue: 'device' },
+      importId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'visits' })

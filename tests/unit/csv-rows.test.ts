@@ -1,0 +1,49 @@
+import { describe, expect, it } from 'vitest'
+import { CsvFileError, checkRows, parseCsv, rejectedRowsCsv } from '../../shared/utils/imports/csv-rows'
+import { importRequestSchema } from '../../shared/utils/schemas/csv-import'
+import { outcomeQuestion, questionnaireDefinitionSchema } from '../../shared/utils/schemas/questionnaire'
+
+const { questions } = questionnaireDefinitionSchema.parse({
+  questions: [
+    outcomeQuestion('improved storage bags'),
+    { key: 'farm_size_ha', label: 'Farm size', type: 'number', min: 0, max: 50, required: true },
+    { key: 'soil', label: 'Soil', type: 'choice', options: [{ value: 'sandy', label: 'Sandy' }, { value: 'clay', label: 'Heavy clay' }] }
+  ]
+})
+const request = importRequestSchema.parse({
+  csv: '',
+  mapping: { farmCode: 'farm', villageCode: 'village', questions: { adopted: 'adopted', farm_size_ha: 'size', soil: 'soil' } }
+})
+
+describe('parseCsv', () => {
+  it('keeps row numbers as a spreadsheet shows them, skipping blank lines, and names a nameless column', () => {
+    const parsed = parseCsv('\uFEFF"",farm,village\n1,F1,V1\n\n2,F2,V2\n')
+    expect(parsed.columns).toEqual(['column 1', 'farm', 'village'])
+    expect(parsed.records.map(r => r.row)).toEqual([2, 4])
+  })
+
+  it('refuses an empty file, a header only, one column, a repeated column and unreadable characters', () => {
+    expect(() => parseCsv('  \n')).toThrow(CsvFileError)
+    expect(() => parseCsv('a,b\n')).toThrow(/no data rows/)
+    expect(() => parseCsv('a:b:c\n1:2:3\n')).toThrow(/separated by colons/)
+    expect(() => parseCsv('abc\n1\n')).toThrow(/Only one column was found\. /)
+    expect(() => parseCsv('a,a\n1,2\n')).toThrow(/"a" twice/)
+    expect(() => parseCsv('a,b\n\uFFFD,2\n')).toThrow(/not in UTF-8/)
+  })
+})
+
+describe('checkRows', () => {
+  it('types the cells, matches choice labels and village codes case-insensitively, and reports per field', () => {
+    const parsed = parseCsv('farm,village,adopted,size,soil\nF1,v1,Yes,2.5,heavy clay\nF 2,V9,no,,Loam\n')
+    const { rows, mappingProblems } = checkRows(parsed, questions, request, ['V1', 'V2'])
+    expect(mappingProblems).toEqual([])
+    expect(rows[0]).toMatchObject({ row: 2, farmCode: 'F1', villageCode: 'V1', answers: { adopted: true, farm_size_ha: 2.5, soil: 'clay' }, problems: [] })
+    expect(rows[1]!.problems.map(p => [p.field, p.message])).toEqual([
+      ['farmCode', 'Letters, digits and / _ . - only'],
+      ['villageCode', '"V9" is not a village of this round (V1, V2)'],
+      ['farm_size_ha', 'This answer is required'],
+      ['soil', 'Choose one of the listed answers (found "Loam")']
+    ])
+    expect(rejectedRowsCsv(parsed.columns, rows).split('\n')).toHaveLength(2)
+  })
+})
