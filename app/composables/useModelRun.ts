@@ -13,5 +13,7 @@ export function useModelRun(id: MaybeRefOrGetter<number>) {
     }
   }, { immediate: true })
   onBeforeUnmount(() => timer && clearInterval(timer))
-  return { run: data, error, refresh, status }
+  const results = computed(() => data.value?.results ?? null)
+  const seLabel = computed(() => seLabelOf(results.value?.covariance.type))
+  return { run: data, results, seLabel, error, refresh, status }
 }
