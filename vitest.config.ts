@@ -37,6 +37,8 @@ export default defineConfig({
           // Generous: a browser test waits on builds of pages, fits and service workers on a 2-core machine.
           testTimeout: 120_000,
           hookTimeout: 60_000,
+          // A page on a loaded 2-core machine can take seconds to hydrate and refetch; a 1 s poll fails on load, not on bugs.
+          expect: { poll: { timeout: 15_000, interval: 100 } },
           fileParallelism: false
         }
       }
