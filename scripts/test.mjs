@@ -5,11 +5,12 @@ import { existsSync } from 'node:fs'
 import path from 'node:path'
 import { spawnSync } from 'node:child_process'
 import { startStack } from './lib/stack.mjs'
-import { DATA, ensureDebianPackage, ensureNodeModules, run, say } from './lib/system.mjs'
+import { DATA, ensureDebianPackage, ensureNodeModules, findExecutable, run, say } from './lib/system.mjs'
 
 ensureNodeModules()
 ensureDebianPackage('chromium', () => existsSync('/usr/bin/chromium'), 'the browser tests')
 ensureDebianPackage('python3-statsmodels', () => spawnSync('/usr/bin/python3', ['-c', 'import statsmodels'], { stdio: 'ignore' }).status === 0, 'the engine\'s reference comparison')
+ensureDebianPackage('mariadb-backup', () => Boolean(findExecutable('mariadb-backup')), 'the backup and restore test')
 
 const results = []
 function stage(name, command, args, env) {
