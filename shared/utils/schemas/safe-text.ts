@@ -12,8 +12,8 @@ const CONTROL_IN_LINE = /[\u0000-\u001F\u007F]/
 // Several lines (reasons, notes, text answers) may also hold tab, line feed and carriage return.
 // eslint-disable-next-line no-control-regex
 const CONTROL_IN_TEXT = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F]/
-// Unicode non-characters U+FFFE and U+FFFF: never meaningful in text.
-const NON_CHARACTER = /[\uFFFE\uFFFF]/
+// U+FFFD is what a decoder leaves for bytes that were not UTF-8; U+FFFE and U+FFFF are non-characters.
+const NON_CHARACTER = /[\uFFFD\uFFFE\uFFFF]/
 
 export interface SafeTextOptions {
   /** Allow tab, line feed and carriage return (reasons, notes, text answers). Default: one line. */
