@@ -2,7 +2,8 @@ import { Op } from 'sequelize'
 import type { MapVillage } from '#shared/types/overview'
 import { funderOrganisationOf } from '#shared/utils/funders'
 import { hiddenVillages, shownMean } from '#shared/utils/suppression'
-import { Organisation, Publication, Round, Village, settingsOf, type PublishedContent } from '../db/models'
+import { Organisation, Publication, Round, Village, settingsOf } from '../db/models'
+import type { PublishedContent } from '../db/models/publication'
 import type { SignedInUser } from './access'
 
 // Everything here is built from frozen publications and village records: no visit, answer, photo, GPS point
