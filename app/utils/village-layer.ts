@@ -5,11 +5,30 @@ import type { MapMode, MapVillage } from '#shared/types/overview'
 
 const pct = (x: number | null | undefined) => (x === null || x === undefined ? '—' : `${(x * 100).toFixed(1)} %`)
 
-export function villageTooltip(v: MapVillage): string {
-  if (v.suppressed) return `<strong>${v.name}</strong><br>Too few visits to show`
+/** The tooltip's lines as plain text; the first is the village name, shown bold. */
+export function villageTooltipLines(v: MapVillage): string[] {
+  if (v.suppressed) return [v.name, 'Too few visits to show']
   const p = v.predicted
-  return `<strong>${v.name}</strong><br>${v.visits} visits<br>Observed adoption ${pct(v.observedRate)}`
-    + `<br>Predicted ${pct(p?.estimate)}${p?.ciLow != null ? ` (95% CI ${pct(p.ciLow)}–${pct(p.ciHigh)})` : ''}`
+  return [
+    v.name,
+    `${v.visits} visits`,
+    `Observed adoption ${pct(v.observedRate)}`,
+    `Predicted ${pct(p?.estimate)}${p?.ciLow != null ? ` (95% CI ${pct(p.ciLow)}–${pct(p.ciHigh)})` : ''}`
+  ]
+}
+
+/**
+ * The tooltip as DOM built from text nodes: a village name is data a coordinator typed, never markup, so it is
+ * never parsed as HTML (Leaflet would parse a string tooltip). `doc` is a parameter for the unit test only.
+ */
+export function villageTooltip(v: MapVillage, doc: Pick<Document, 'createElement'> = document): HTMLElement {
+  const box = doc.createElement('div')
+  villageTooltipLines(v).forEach((line, i) => {
+    const part = doc.createElement(i === 0 ? 'strong' : 'div')
+    part.textContent = line
+    box.appendChild(part)
+  })
+  return box
 }
 
 /**
@@ -27,7 +46,8 @@ export function villageLayer(villages: readonly MapVillage[], mode: MapMode, ren
     const shape = v.boundary
       ? L.geoJSON(v.boundary as GeoJSON.GeoJsonObject, { style: () => style })
       : L.circleMarker([v.lat, v.lon], { ...style, radius: 5 + 10 * Math.sqrt((v.visits ?? 0) / maxVisits) })
-    shape.bindTooltip(villageTooltip(v))
+    // Built when the tooltip first opens, not for every village up front.
+    shape.bindTooltip(() => villageTooltip(v))
     layer.addLayer(shape)
   }
   return layer

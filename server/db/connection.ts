@@ -13,7 +13,8 @@ export function createDatabase(url: string, poolMax = 10): Sequelize {
     dialectModule: mariadb,
     logging: false,
     pool: { max: poolMax, min: 0, idle: 10_000 },
-    dialectOptions: { connectTimeout: 5_000 },
+    // utf8mb4 on every connection, whatever the server's default: text is never narrowed to 3-byte UTF-8 or "?".
+    dialectOptions: { connectTimeout: 5_000, collation: 'UTF8MB4_UNICODE_CI' },
     define: { underscored: true }
   })
   initModels(instance)

@@ -57,12 +57,12 @@ export function columnsFor(spec: ModelSpec, rows: readonly AcceptedVisitRow[]): 
     [VILLAGE_COLUMN]: rows.map(r => r.villageCode)
   }
   const keys = new Set([...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])])
-  for (const key of keys) columns[key] = rows.map(r => r.answers[key] ?? null)
+  for (const key of keys) columns[key] = rows.map(r => ownValue(r.answers, key) ?? null)
   return columns
 }
 
 /** Hash of the rows a specification keeps after listwise deletion, by the engine's own rule for "missing". */
 export function usedRowsHash(spec: ModelSpec, rows: readonly AcceptedVisitRow[]): string {
   const keys = [...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])]
-  return hashRows(rows.filter(r => keys.every(k => !isMissing(r.answers[k]))))
+  return hashRows(rows.filter(r => keys.every(k => !isMissing(ownValue(r.answers, k)))))
 }

@@ -19,7 +19,7 @@ export async function acceptedVisitsCsv(roundId: number, organisationId: number,
   ]
   for (const v of visits) {
     const answers = questions.map((q) => {
-      const value = v.answers[q.key]
+      const value = ownValue(v.answers, q.key)
       return typeof value === 'boolean' ? (value ? 'yes' : 'no') : value
     })
     lines.push(csvRow([v.id, village.get(v.villageId)?.code, village.get(v.villageId)?.name, v.farmCode, v.savedAt.toISOString(), v.questionnaireVersionId, ...answers]))

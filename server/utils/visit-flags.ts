@@ -31,7 +31,7 @@ export function edgeValues(questions: readonly Question[], answers: Record<strin
   const out: string[] = []
   for (const q of questions) {
     if ((q.type !== 'number' && q.type !== 'whole') || q.min === undefined || q.max === undefined) continue
-    const v = answers[q.key]
+    const v = ownValue(answers, q.key)
     if (typeof v !== 'number') continue
     const margin = (q.max - q.min) * EDGE_SHARE
     if ((q.min !== 0 && v <= q.min + margin) || (q.max !== 0 && v >= q.max - margin)) out.push(q.key)

@@ -26,6 +26,8 @@ beforeAll(async () => {
 afterAll(closeTestDatabase)
 
 const sha = (b: Buffer) => createHash('sha256').update(b).digest('hex')
+// A body that starts as a JPEG does (the server checks a photo by its first bytes), padded to the size wanted.
+const jpeg = (size: number, fill: number) => Buffer.concat([Buffer.from([0xFF, 0xD8, 0xFF, 0xE0]), Buffer.alloc(size - 4, fill)])
 
 function put(photoId: string, body: Buffer, { visit = visitId, type = 'image/jpeg', digest = sha(body), client = enumerator } = {}) {
   return fetch(`${baseUrl()}/api/photos/${photoId}?visitId=${visit}&sha256=${digest}`, {
@@ -37,7 +39,7 @@ function put(photoId: string, body: Buffer, { visit = visitId, type = 'image/jpe
 
 describe('photos', () => {
   it('stores a photo in the bucket under its visit and marks it stored; a resend is a duplicate', async () => {
-    const bytes = Buffer.alloc(50_000, 7)
+    const bytes = jpeg(50_000, 7)
     const id = randomUUID()
     const answer = await put(id, bytes)
     expect(answer.status).toBe(200)
@@ -56,12 +58,14 @@ describe('photos', () => {
     const back = await fetch(`${baseUrl()}/api/review/photos/${id}`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.8.8.7' } })
     expect(back.status).toBe(200)
     expect(back.headers.get('content-type')).toBe('image/jpeg')
+    expect(back.headers.get('x-content-type-options')).toBe('nosniff')
+    expect(back.headers.get('content-disposition')).toBe(`inline; filename="photo-${id}.jpg"`)
     expect(Buffer.from(await back.arrayBuffer()).equals(bytes)).toBe(true)
   })
 
   it('answers 413 to an oversized photo and stores nothing', async () => {
     const id = randomUUID()
-    const answer = await put(id, Buffer.alloc(3 * 1024 * 1024 + 10, 1))
+    const answer = await put(id, jpeg(3 * 1024 * 1024 + 10, 1))
     expect(answer.status).toBe(413)
     expect((await answer.json()).message).toMatch(/larger than/)
     expect(await Photo.findByPk(id)).toBeNull()
@@ -74,14 +78,14 @@ describe('photos', () => {
     ['a malformed checksum', { digest: 'abc' }, 400]
   ])('refuses %s and stores nothing', async (_what, options, status) => {
     const id = randomUUID()
-    const answer = await put(id, Buffer.alloc(1000, 2), options)
+    const answer = await put(id, jpeg(1000, 2), options)
     expect(answer.status).toBe(status)
     expect(await Photo.findByPk(id)).toBeNull()
   })
 
   it('never attaches a photo whose upload was cut off halfway; the retry stores it', async () => {
     const id = randomUUID()
-    const bytes = Buffer.alloc(200_000, 9)
+    const bytes = jpeg(200_000, 9)
     await new Promise<void>((resolve) => {
       const req = request(`${baseUrl()}/api/photos/${id}?visitId=${visitId}&sha256=${sha(bytes)}`, {
         method: 'PUT',

@@ -47,3 +47,12 @@ describe('checkRows', () => {
     expect(rejectedRowsCsv(parsed.columns, rows).split('\n')).toHaveLength(2)
   })
 })
+
+describe('line endings', () => {
+  it('reads a CRLF header with LF rows (and a lone CR) as separate rows', () => {
+    const parsed = parseCsv('farm,village,adopted\r\nF-1,KS-1,yes\nF-2,KS-1,no\rF-3,KS-2,yes\n')
+    expect(parsed.columns).toEqual(['farm', 'village', 'adopted'])
+    expect(parsed.records.map(r => r.values)).toEqual([['F-1', 'KS-1', 'yes'], ['F-2', 'KS-1', 'no'], ['F-3', 'KS-2', 'yes']])
+    expect(parsed.records.map(r => r.row)).toEqual([2, 3, 4])
+  })
+})

@@ -15,5 +15,9 @@ export default defineRoleHandler(['enumerator'], async (event, user) => {
   const body = await readRawBody(event, false)
   if (!body?.length) throw createError({ statusCode: 400, message: 'The photo is empty.' })
   if (body.length > limit) throw tooLarge()
+  // The bytes decide what the file is: anything but a JPEG, PNG or WebP is refused, and so is a type that lies.
+  const actual = photoTypeOf(body)
+  if (!actual) throw createError({ statusCode: 415, message: 'This file is not a JPEG, PNG or WebP photo.' })
+  if (actual !== contentType) throw createError({ statusCode: 422, message: `The file is a ${PHOTO_TYPES[actual]!.toUpperCase()} photo but was sent as ${contentType}.` })
   return storePhoto(user, { id, visitId, contentType, sha256 }, Buffer.from(body))
 })

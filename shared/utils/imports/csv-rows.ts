@@ -1,7 +1,9 @@
 import Papa from 'papaparse'
 import { type Question, OUTCOME_KEY } from '../schemas/questionnaire'
 import { answersSchemaFor, farmCodeSchema } from '../schemas/visit'
+import { ownValue } from '../schemas/safe-text'
 import type { ImportProblem, ImportRequest } from '../schemas/csv-import'
+import { neutraliseCsvCell } from '../csv-cells'
 
 // Pure CSV handling for the import of past survey data: parse the text, map its columns to the round's
 // questions, and check every record with the questionnaire's own zod schema. No I/O: text in, rows out.
@@ -27,7 +29,9 @@ export function parseCsv(input: string): ParsedCsv {
     throw new CsvFileError('The file is not in UTF-8: some characters could not be read. Save it again with the UTF-8 encoding and choose it again.')
   }
   if (!text.trim()) throw new CsvFileError('The file is empty.')
-  const result = Papa.parse<string[]>(text, { header: false, skipEmptyLines: false, delimitersToGuess: [',', ';', '\t', '|'] })
+  // Papa guesses one line ending from the first break, so a CRLF header with LF rows would merge the rows: every
+  // break (CRLF, LF or a lone CR) is made LF first. Inside a quoted cell this only changes which break the cell holds.
+  const result = Papa.parse<string[]>(text.replace(/\r\n?/g, '\n'), { header: false, newline: '\n', skipEmptyLines: false, delimitersToGuess: [',', ';', '\t', '|'] })
   const rows = result.data
   // A nameless column (often the row names a statistics package writes first) gets a name of its own.
   const header = (rows[0] ?? []).map((h, i) => h.trim() || `column ${i + 1}`)
@@ -116,8 +120,9 @@ export function mappingErrors(request: ImportRequest, columns: readonly string[]
 /** Maps and checks every record: farm code, village of the round, and the answers with the questionnaire's schema. */
 export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[]): CheckResult {
   const index = new Map(parsed.columns.map((c, i) => [c, i]))
-  const mapped = questions.filter(q => request.mapping.questions[q.key])
-  const unmappedRequired = questions.filter(q => q.required && !request.mapping.questions[q.key])
+  const columnOf = (key: string) => ownValue(request.mapping.questions, key)
+  const mapped = questions.filter(q => columnOf(q.key))
+  const unmappedRequired = questions.filter(q => q.required && !columnOf(q.key))
   const mappingProblems = unmappedRequired.map(q => q.key === OUTCOME_KEY
     ? `Choose the column with the outcome (${OUTCOME_KEY}): it is required.`
     : `Choose a column for the required question "${q.label}" (${q.key}).`)
@@ -148,7 +153,7 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
     else if (!village) add('villageCode', request.mapping.villageCode, `"${villageRaw}" is not a village of this round (${villageList})`)
     const answers: Record<string, unknown> = {}
     for (const q of mapped) {
-      const v = typed(q, cell(values, request.mapping.questions[q.key]!), words)
+      const v = typed(q, cell(values, columnOf(q.key)!), words)
       if (v !== undefined) answers[q.key] = v
     }
     const parsedAnswers = schema.safeParse(answers)
@@ -158,7 +163,7 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
         const key = String(issue.path[0] ?? '')
         if (skip.has(key) || seen.has(key)) continue
         seen.add(key)
-        const column = request.mapping.questions[key] ?? null
+        const column = columnOf(key) ?? null
         const raw = column ? cell(values, column).trim() : ''
         add(key, column, raw ? `${issue.message} (found "${raw}")` : issue.message)
       }
@@ -180,5 +185,5 @@ export function rejectedRowsCsv(columns: readonly string[], rows: readonly Check
   const bad = rows.filter(r => r.problems.length)
   if (!bad.length) return ''
   const reason = (r: CheckedRow) => r.problems.map(p => `${p.field}: ${p.message}`).join('; ')
-  return Papa.unparse({ fields: [...columns, 'reason'], data: bad.map(r => [...r.values, reason(r)]) }, { newline: '\n' })
+  return Papa.unparse({ fields: [...columns, 'reason'].map(neutraliseCsvCell), data: bad.map(r => [...r.values, reason(r)].map(neutraliseCsvCell)) }, { newline: '\n' })
 }

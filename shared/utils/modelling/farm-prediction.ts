@@ -1,6 +1,7 @@
 import type { DesignPlan } from '../stats/design'
 import type { LinkName } from '../stats/links'
 import { predictNew } from '../stats/predict'
+import { ownValue } from '../schemas/safe-text'
 
 /** What a publication sends to the tablets: enough to predict one farm, nothing about other farms. */
 export interface PublishedModel {
@@ -40,7 +41,7 @@ export function predictFarm(model: PublishedModel, answers: Record<string, unkno
   if (probability === null) return null
   const movers: AnswerMover[] = []
   for (const c of model.plan.covariates.filter(c => !c.dropped)) {
-    const value = answers[c.name]
+    const value = ownValue(answers, c.name)
     const tries: Array<[unknown, string]> = []
     if (c.type === 'yesno') {
       const yes = value === true || value === 1 || value === 'yes'

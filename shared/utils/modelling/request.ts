@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { safeText } from '../schemas/safe-text'
 
 const key = z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Unknown question key')
 
@@ -7,7 +8,7 @@ export const covariateChoiceSchema = z.object({
   transform: z.enum(['log', 'centre']).optional(),
   square: z.boolean().optional(),
   /** Choice questions: the option the others are compared with. */
-  reference: z.string().max(40).optional()
+  reference: safeText(z.string().max(40)).optional()
 })
 export type CovariateChoice = z.infer<typeof covariateChoiceSchema>
 
@@ -49,18 +50,18 @@ export type ModelRequestInput = z.input<typeof modelRequestSchema>
 
 /** A counterfactual the coordinator asks for: set a characteristic for everyone, or shift it, maybe in some villages. */
 export const scenarioRequestSchema = z.object({
-  name: z.string().trim().min(1, 'Name the scenario').max(80),
+  name: safeText(z.string().trim().min(1, 'Name the scenario').max(80)),
   covariate: key,
-  set: z.union([z.number().finite(), z.string().max(40), z.boolean()]).optional(),
+  set: z.union([z.number().finite(), safeText(z.string().max(40)), z.boolean()]).optional(),
   shift: z.number().finite().optional(),
-  villages: z.array(z.string().max(40)).max(500).optional()
+  villages: z.array(safeText(z.string().max(40))).max(500).optional()
 }).refine(s => (s.set === undefined) !== (s.shift === undefined), { message: 'Give either a value to set or an amount to shift, not both', path: ['set'] })
 export type ScenarioRequest = z.infer<typeof scenarioRequestSchema>
 
 export const scenariosRequestSchema = z.object({ scenarios: z.array(scenarioRequestSchema).min(1).max(10) })
 
 export const publishRequestSchema = z.object({
-  note: z.string().trim().min(3, 'Write a short note for the readers').max(500),
+  note: safeText(z.string().trim().min(3, 'Write a short note for the readers').max(500), { multiline: true }),
   /** Villages predicted below this share are flagged to funders (0–1). */
   targetRate: z.number().min(0).max(1).default(0.3),
   /** Show the farm-level planning aid on enumerators' tablets for this round. Off by default. */

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { isReservedKey, safeText } from './safe-text'
 
 // CSV import of past survey data into a round: what the page sends to the preview and import routes.
 
@@ -13,22 +14,22 @@ export const IMPORT_REPORT_MAX = 500
 export const IMPORT_MODE_VALUES = ['all-or-nothing', 'valid-only'] as const
 export type ImportModeValue = typeof IMPORT_MODE_VALUES[number]
 
-const column = z.string().max(200)
+const column = safeText(z.string().max(200))
 
 export const importRequestSchema = z.object({
   csv: z.string({ error: 'Choose a CSV file' }),
-  fileName: z.string().trim().max(200).default('upload.csv'),
+  fileName: safeText(z.string().trim().max(200)).default('upload.csv'),
   mode: z.enum(IMPORT_MODE_VALUES, { error: 'Choose how to import: all-or-nothing or valid-only' }).default('all-or-nothing'),
   mapping: z.object({
     farmCode: column.min(1, 'Choose the column with the farm code'),
     villageCode: column.min(1, 'Choose the column with the village code'),
     /** Question key → CSV column; a question left out (or mapped to '') is not imported. */
-    questions: z.record(z.string(), column).default({})
+    questions: z.record(z.string().max(40).refine(k => !isReservedKey(k), 'This key is reserved'), column).default({})
   }, { error: 'Map the columns to the questions' }),
   /** An extra pair of words read as yes and no (on top of yes/no, 1/0, true/false), e.g. increase / decrease. */
   yesNoWords: z.object({
-    yes: z.string().trim().max(40),
-    no: z.string().trim().max(40)
+    yes: safeText(z.string().trim().max(40)),
+    no: safeText(z.string().trim().max(40))
   }).optional()
 })
 export type ImportRequest = z.infer<typeof importRequestSchema>

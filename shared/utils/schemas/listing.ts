@@ -1,11 +1,12 @@
 import { z } from 'zod'
 import { ROLES } from '../roles'
+import { safeText } from './safe-text'
 
 const page = z.coerce.number().int().min(1).max(100_000).default(1)
 const pageSize = z.coerce.number().int().min(5).max(100).default(25)
 
 export const peopleQuerySchema = z.object({
-  search: z.string().trim().max(100).optional(),
+  search: safeText(z.string().trim().max(100)).optional(),
   role: z.enum(ROLES).optional(),
   status: z.enum(['active', 'inactive']).optional(),
   page,
@@ -21,9 +22,9 @@ const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD')
   .optional()
 
 export const auditQuerySchema = z.object({
-  action: z.string().trim().max(64).optional(),
-  actor: z.string().trim().max(254).optional(),
-  entity: z.string().trim().max(64).optional(),
+  action: safeText(z.string().trim().max(64)).optional(),
+  actor: safeText(z.string().trim().max(254)).optional(),
+  entity: safeText(z.string().trim().max(64)).optional(),
   from: day,
   to: day,
   page,

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { isReservedKey, safeText } from './safe-text'
 
 // A questionnaire is a list of typed questions; one version of it yields one zod schema for a visit,
 // used by the tablet's form and by the sync route alike (visitSchemaFor).
@@ -19,12 +20,13 @@ export const QUESTION_TYPE_LABELS: Record<QuestionType, string> = {
 export const OUTCOME_KEY = 'adopted'
 
 const key = z.string().trim().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Use 1–40 lower-case letters, digits or _, starting with a letter')
-const label = z.string().trim().min(1, 'Give the question a label').max(200)
+  .refine(k => !isReservedKey(k), 'This key is reserved; choose another name')
+const label = safeText(z.string().trim().min(1, 'Give the question a label').max(200))
 
 const common = {
   key,
   label,
-  help: z.string().trim().max(500).optional(),
+  help: safeText(z.string().trim().max(500), { multiline: true }).optional(),
   required: z.boolean().default(false)
 }
 const bounds = {
@@ -34,15 +36,16 @@ const bounds = {
 
 // Built under a local name: a top-level `export const x = z.fn(…, [` confuses the auto-import scanner.
 const questionVariants = z.discriminatedUnion('type', [
-  z.object({ ...common, type: z.literal('number'), unit: z.string().trim().max(20).optional(), ...bounds }),
-  z.object({ ...common, type: z.literal('whole'), unit: z.string().trim().max(20).optional(), ...bounds }),
+  z.object({ ...common, type: z.literal('number'), unit: safeText(z.string().trim().max(20)).optional(), ...bounds }),
+  z.object({ ...common, type: z.literal('whole'), unit: safeText(z.string().trim().max(20)).optional(), ...bounds }),
   z.object({ ...common, type: z.literal('yesno') }),
   z.object({
     ...common,
     type: z.literal('choice'),
     options: z.array(z.object({
-      value: z.string().trim().regex(/^[a-z0-9_]{1,40}$/, 'Option values are 1–40 lower-case letters, digits or _'),
-      label: z.string().trim().min(1).max(120)
+      value: z.string().trim().regex(/^[a-z0-9_]{1,40}$/, 'Option values are 1–40 lower-case letters, digits or _')
+        .refine(v => !isReservedKey(v), 'This value is reserved; choose another'),
+      label: safeText(z.string().trim().min(1).max(120))
     })).min(2, 'List at least two options').max(50)
   }),
   z.object({ ...common, type: z.literal('date') }),

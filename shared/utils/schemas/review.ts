@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { safeText } from './safe-text'
 
 export const REVIEW_SORTS = ['savedAt', 'farmCode', 'village', 'enumerator', 'reviewState'] as const
 
@@ -20,11 +21,11 @@ export type ReviewQuery = z.infer<typeof reviewQuerySchema>
 // Built under a local name: a top-level `export const x = z.fn(…, [` confuses the auto-import scanner.
 const reviewActions = z.discriminatedUnion('action', [
   z.object({ action: z.literal('accept') }),
-  z.object({ action: z.literal('send_back'), reason: z.string().trim().min(3, 'Say what the enumerator should fix').max(500) }),
+  z.object({ action: z.literal('send_back'), reason: safeText(z.string().trim().min(3, 'Say what the enumerator should fix').max(500), { multiline: true }) }),
   z.object({
     action: z.literal('correct'),
     answers: z.record(z.string(), z.unknown()).refine(a => Object.keys(a).length > 0, 'Change at least one answer'),
-    reason: z.string().trim().min(3, 'Say why you correct this').max(500)
+    reason: safeText(z.string().trim().min(3, 'Say why you correct this').max(500), { multiline: true })
   })
 ], { error: 'Choose accept, send_back or correct' })
 export const reviewActionSchema = reviewActions

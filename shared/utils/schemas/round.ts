@@ -1,10 +1,11 @@
 import { z } from 'zod'
 import { questionSchema } from './questionnaire'
+import { safeText } from './safe-text'
 
 export const roundCreateSchema = z.object({
-  name: z.string().trim().min(3, 'Give the round a name').max(160),
-  technology: z.string().trim().min(3, 'Name the technology').max(160),
-  season: z.string().trim().min(2, 'Name the season').max(60)
+  name: safeText(z.string().trim().min(3, 'Give the round a name').max(160)),
+  technology: safeText(z.string().trim().min(3, 'Name the technology').max(160)),
+  season: safeText(z.string().trim().min(2, 'Name the season').max(60))
 })
 export type RoundCreate = z.infer<typeof roundCreateSchema>
 
@@ -37,8 +38,8 @@ export const boundarySchema = boundaryForms
 
 export const villageCreateSchema = z.object({
   code: z.string().trim().regex(/^[A-Za-z0-9-]{2,32}$/, 'Use 2–32 letters, digits or -'),
-  name: z.string().trim().min(2).max(120),
-  district: z.string().trim().min(2).max(120),
+  name: safeText(z.string().trim().min(2).max(120)),
+  district: safeText(z.string().trim().min(2).max(120)),
   centreLat: z.number().min(-90).max(90),
   centreLon: z.number().min(-180).max(180),
   boundary: boundarySchema.nullable().optional()

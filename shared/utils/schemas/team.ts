@@ -1,14 +1,15 @@
 import { z } from 'zod'
 import { ROLES } from '../roles'
+import { safeText } from './safe-text'
 
 const email = z.string({ error: 'Enter an e-mail address' }).trim().toLowerCase().email('Enter a valid e-mail address').max(254)
-const personName = z.string({ error: 'Enter a name' }).trim().min(1, 'Enter a name').max(160, 'Use at most 160 characters')
+const personName = safeText(z.string({ error: 'Enter a name' }).trim().min(1, 'Enter a name').max(160, 'Use at most 160 characters'))
 const role = z.enum(ROLES, { error: 'Choose a role' })
 
 // The server also refuses the most common passwords (server/utils/password-policy.ts).
-export const newPasswordSchema = z.string({ error: 'Enter a password' })
+export const newPasswordSchema = safeText(z.string({ error: 'Enter a password' })
   .min(10, 'Use at least 10 characters')
-  .max(200, 'Use at most 200 characters')
+  .max(200, 'Use at most 200 characters'))
 
 export const inviteSchema = z.object({
   email,
@@ -50,13 +51,13 @@ export const changePasswordSchema = z.object({
 export type ChangePasswordInput = z.infer<typeof changePasswordSchema>
 
 const funderOrganisation = z.object({
-  name: z.string({ error: 'Enter the funder\'s name' }).trim().min(1, 'Enter the funder\'s name').max(120, 'Use at most 120 characters'),
+  name: safeText(z.string({ error: 'Enter the funder\'s name' }).trim().min(1, 'Enter the funder\'s name').max(120, 'Use at most 120 characters')),
   emailDomain: z.string({ error: 'Enter an e-mail domain' }).trim().toLowerCase().max(120)
     .regex(/^(?=.{3,120}$)([a-z0-9](?:[a-z0-9-]{0,61}[a-z0-9])?\.)+[a-z]{2,}$/, 'Enter a domain such as funder.example, without @')
 })
 
 export const settingsSchema = z.object({
-  name: z.string({ error: 'Enter the organisation\'s name' }).trim().min(2, 'Use at least 2 characters').max(160, 'Use at most 160 characters'),
+  name: safeText(z.string({ error: 'Enter the organisation\'s name' }).trim().min(2, 'Use at least 2 characters').max(160, 'Use at most 160 characters')),
   defaultClusterVariable: z.string({ error: 'Enter a variable name' }).trim()
     .regex(/^[a-z][a-z0-9_]{0,63}$/, 'Use lower-case letters, digits and _ only, starting with a letter'),
   minVisitsForFunders: z.number({ error: 'Enter a whole number' }).int('Enter a whole number').min(1, 'Use at least 1').max(1000, 'Use at most 1000'),

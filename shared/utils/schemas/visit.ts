@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { OUTCOME_KEY, type Question, type QuestionnaireVersionDto } from './questionnaire'
+import { ownValue, safeText } from './safe-text'
 
 // One schema per questionnaire version: what a visit must look like, on the tablet before saving and on the
 // server before storing. Answers are in their plain JSON types (numbers, booleans, option values, ISO dates).
@@ -16,7 +17,7 @@ const locationForms = z.discriminatedUnion('kind', [
   z.object({ kind: z.literal('gps'), lat, lon, accuracyM: z.number().min(0).max(100_000) }),
   z.object({
     kind: z.literal('manual'),
-    reason: z.string({ error: 'Say why there is no GPS fix' }).trim().min(3, 'Say why there is no GPS fix').max(300),
+    reason: safeText(z.string({ error: 'Say why there is no GPS fix' }).trim().min(3, 'Say why there is no GPS fix').max(300)),
     lat: lat.optional(),
     lon: lon.optional()
   })
@@ -44,7 +45,7 @@ function answerSchema(q: Question): z.ZodType {
     case 'date':
       return isoDate
     case 'text':
-      return z.string({ error: 'Enter text' }).trim().min(1, 'Enter an answer').max(q.maxLength, `At most ${q.maxLength} characters`)
+      return safeText(z.string({ error: 'Enter text' }).trim().min(1, 'Enter an answer').max(q.maxLength, `At most ${q.maxLength} characters`), { multiline: true })
   }
 }
 
@@ -102,7 +103,7 @@ export type VisitInput = z.infer<ReturnType<typeof visitSchemaFor>>
 export type Answers = Record<string, unknown>
 
 export function adoptedOf(answers: Answers): 0 | 1 {
-  return answers[OUTCOME_KEY] === true ? 1 : 0
+  return ownValue(answers, OUTCOME_KEY) === true ? 1 : 0
 }
 
 /** The sync envelope: at most 500 records; each record is checked on its own so one bad record spoils nothing else. */
