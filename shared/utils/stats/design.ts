@@ -82,6 +82,12 @@ export interface Design {
   plan: DesignPlan
   rows: DroppedRows
   warnings: EngineWarning[]
+  /**
+   * Per column, the level the fit subtracts before accumulating (0 for most columns; the mean
+   * where a column's mean is over 100 standard deviations from 0), or null when none is needed.
+   * Set by `dropCollinearColumns`; see `evaluateRangeShifted`.
+   */
+  shift?: Float64Array | null
 }
 
 function sqLabel(label: string): string {

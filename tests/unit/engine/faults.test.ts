@@ -1,0 +1,106 @@
+/**
+ * Regression tests for engine faults found by an outside check, each against statsmodels
+ * (Debian's python3-statsmodels, run as a subprocess on the same numbers).
+ */
+import { spawnSync } from 'node:child_process'
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import { join } from 'node:path'
+import { beforeAll, describe, expect, it } from 'vitest'
+import { buildDesign, evaluate, fitBinary, getLink, runModel } from '../../../shared/utils/stats/index'
+import { normal, prng } from '../../../shared/utils/random/prng'
+import { relErr } from './helpers'
+
+const PY = '/usr/bin/python3'
+// statsmodels Probit by Newton with tight tolerances: the outside reference for these checks.
+const SCRIPT = `
+import json, sys
+import numpy as np
+import statsmodels.api as sm
+out = []
+for case in json.load(open(sys.argv[1])):
+    X = sm.add_constant(np.array(case["X"], dtype=float), has_constant="add")
+    res = sm.Probit(np.array(case["y"], dtype=float), X).fit(method="newton", disp=0, tol=1e-14, maxiter=100)
+    out.append({"params": [float(v) for v in res.params], "llf": float(res.llf), "bse": [float(v) for v in res.bse]})
+json.dump(out, open(sys.argv[2], "w"))
+`
+
+/** `level` is subtracted (exactly) before statsmodels sees the data: its Newton fails on the raw date (NaN) from the
+ * ill-conditioning; the probit likelihood, slopes and their SEs do not depend on a covariate's shift. */
+interface Case { name: string, rows: Array<Record<string, number>>, covariates: string[], level: number }
+
+function makeCase(name: string, n: number, seed: number, level: number, covariate: (u: () => number, i: number) => number): Case {
+  const u = prng(seed)
+  const rows = Array.from({ length: n }, (_, i) => {
+    const z = normal(u)
+    const v = covariate(u, i)
+    return { v, z, raw: v }
+  })
+  // The outcome depends on the covariate's deviation from its mean, so its coefficient is real.
+  const mean = rows.reduce((s, r) => s + r.v, 0) / n
+  const sd = Math.sqrt(rows.reduce((s, r) => s + (r.v - mean) ** 2, 0) / n)
+  return {
+    name,
+    level,
+    covariates: ['v', 'z'],
+    rows: rows.map(r => ({ y: 0.4 * (r.v - mean) / sd + 0.5 * r.z + normal(u) > 0 ? 1 : 0, v: r.v, z: r.z }))
+  }
+}
+
+const cases: Case[] = [
+  // An interview date coded yyyymmdd within one month: sd ≈ 9 beside a level of 2e7.
+  makeCase('yyyymmdd date within a month', 2000, 11, 20260301, u => 20260301 + Math.floor(u() * 30)),
+  makeCase('1e5 + N(0,1)', 2000, 12, 1e5, u => 1e5 + normal(u))
+]
+let ref: Array<{ params: number[], llf: number, bse: number[] }> = []
+
+beforeAll(() => {
+  const dir = mkdtempSync(join(tmpdir(), 'fc-faults-'))
+  writeFileSync(join(dir, 'in.json'), JSON.stringify(cases.map(c => ({ X: c.rows.map(r => [r.v! - c.level, r.z!]), y: c.rows.map(r => r.y) }))))
+  const r = spawnSync(PY, ['-c', SCRIPT, join(dir, 'in.json'), join(dir, 'out.json')], { encoding: 'utf8' })
+  if (r.status !== 0) throw new Error(`statsmodels reference failed (Debian package python3-statsmodels): ${r.stderr || r.error}`)
+  ref = JSON.parse(readFileSync(join(dir, 'out.json'), 'utf8'))
+}, 120_000)
+
+describe('collinearity test is scale-invariant (fault 1)', () => {
+  for (const [idx, c] of cases.entries()) {
+    it(`keeps a real covariate with a small spread beside its level: ${c.name}`, () => {
+      const res = runModel(c.rows, { outcome: 'y', covariates: c.covariates.map(name => ({ name })) })
+      expect(res.warnings.filter(w => w.code === 'collinear_column_dropped')).toEqual([])
+      expect(res.coefficients.map(t => t.term)).toEqual(['(Intercept)', 'v', 'z'])
+      expect(res.converged).toBe(true)
+      // Reference: statsmodels Probit (Newton) on the same rows.
+      expect(relErr(res.fit.loglik, ref[idx]!.llf)).toBeLessThan(1e-8)
+      expect(relErr(res.coefficients[1]!.estimate, ref[idx]!.params[1]!)).toBeLessThan(1e-7)
+      expect(relErr(res.coefficients[1]!.se!, ref[idx]!.bse[1]!)).toBeLessThan(1e-6)
+      expect(Math.abs(res.coefficients[1]!.z!)).toBeGreaterThan(5)
+    })
+  }
+
+  it('still drops a truly constant column and an exact combination with an offset level', () => {
+    const rows = cases[1]!.rows.map(r => ({ ...r, c: 20260301, w: 2 * r.v - 7 * r.z + 3 }))
+    const res = runModel(rows, { outcome: 'y', covariates: [{ name: 'v' }, { name: 'z' }, { name: 'c' }, { name: 'w' }] })
+    const dropped = res.warnings.filter(w => w.code === 'collinear_column_dropped')
+    expect(dropped.map(w => w.variables)).toEqual([['c', '(Intercept)'], ['w', '(Intercept)', 'v', 'z']])
+    expect(res.coefficients.map(t => t.term)).toEqual(['(Intercept)', 'v', 'z'])
+  })
+})
+
+describe('the fit returns the final Newton iterate (fault 5)', () => {
+  it('no Newton step is left at the returned estimate, and ℓ, g, H belong to it', () => {
+    const c = cases[1]!
+    const design = buildDesign(c.rows.map(r => ({ ...r, v: r.v - 1e5 })), { outcome: 'y', covariates: [{ name: 'v' }, { name: 'z' }] })
+    const fit = fitBinary(design, 'probit')
+    const at = evaluate(design, getLink('probit'), fit.coef)
+    expect(at.loglik).toBe(fit.loglik)
+    expect(Array.from(at.gradient)).toEqual(Array.from(fit.gradient))
+    // The step that would follow is at rounding level: the estimate is the final iterate.
+    const g = at.gradient
+    const maxG = Math.max(...Array.from(g, Math.abs))
+    expect(maxG).toBeLessThan(1e-9)
+    // statsmodels' Newton returns its final iterate too; agreement to 1e-9 relative (reference: statsmodels).
+    expect(relErr(fit.coef[2]!, ref[1]!.params[2]!)).toBeLessThan(1e-9)
+    expect(fit.iterations.at(-1)!.stepSize).toBe(0)
+    expect(fit.iterations.at(-2)!.stepSize).toBe(1)
+  })
+})
