@@ -4,7 +4,7 @@
  * same input gives the same numbers; only `timings` differ between runs.
  * Throws `EngineInputError` when the model cannot be fitted (see errors.ts).
  */
-import { classificationTable, hosmerLemeshow, rocCurve } from './classification'
+import { ascendingOrder, classificationTable, hosmerLemeshow, rocCurve } from './classification'
 import { computeCovariance, type Covariance } from './covariance'
 import { buildDesign } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
@@ -51,8 +51,9 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
     cutoff = spec.cutoff
   }
   const classification = classificationTable(p, design.y, design.w, cutoff)
-  const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101)
-  const hl = hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10)
+  const order = ascendingOrder(p)
+  const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101, order)
+  const hl = hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10, order)
   const t3 = now()
   const marginsKind = spec.margins ?? 'ame'
   const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt })

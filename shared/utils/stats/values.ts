@@ -54,14 +54,22 @@ export function isMissing(v: unknown): boolean {
   return false
 }
 
-/** A finite number from a number, boolean or numeric string; throws otherwise. */
+/**
+ * Decimal notation: optional sign, digits with at most one '.', optional exponent (1e3 and 2.5E-4 are how
+ * statistics programs write small and large values). Not hexadecimal, binary, octal, Infinity or NaN.
+ */
+export const DECIMAL = /^[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?$/
+
+/** A finite number from a number, boolean or decimal string; throws otherwise. */
 export function toNumber(v: unknown, variable: string, row: number): number {
   let x: number
   if (typeof v === 'number') x = v
   else if (typeof v === 'boolean') x = v ? 1 : 0
   else if (typeof v === 'string') {
-    x = Number(v.trim())
-    if (Number.isNaN(x)) throw new EngineInputError('invalid_value', `'${variable}' has a non-numeric value '${v}' in row ${row + 1}`, [variable])
+    const s = v.trim()
+    // Decimal notation only: Number() would also read 0x1A, 0b11, 0o7 and Infinity.
+    if (!DECIMAL.test(s)) throw new EngineInputError('invalid_value', `'${variable}' has a value '${v}' in row ${row + 1} that is not a decimal number`, [variable])
+    x = Number(s)
   }
   else throw new EngineInputError('invalid_value', `'${variable}' has an unreadable value in row ${row + 1}`, [variable])
   if (!Number.isFinite(x)) {

@@ -104,3 +104,14 @@ describe('the fit returns the final Newton iterate (fault 5)', () => {
     expect(fit.iterations.at(-2)!.stepSize).toBe(1)
   })
 })
+
+describe('numeric text is decimal notation only (fault 3)', () => {
+  it('refuses 0x1A, 0b11, 0o7, Infinity and NaN as numbers, and reads exponents', () => {
+    const rows = (v: string) => Array.from({ length: 30 }, (_, i) => ({ y: i % 3 === 0 ? 1 : 0, x: i === 4 ? v : String((i * 7) % 11) }))
+    for (const bad of ['0x1A', '0b11', '0o7', 'Infinity', 'NaN']) {
+      expect(() => buildDesign(rows(bad), { outcome: 'y', covariates: [{ name: 'x' }] }), bad).toThrow(/row 5 that is not a decimal number/)
+    }
+    const d = buildDesign(rows('2.5e1'), { outcome: 'y', covariates: [{ name: 'x' }] })
+    expect(d.X[4 * d.k + 1]).toBe(25)
+  })
+})
