@@ -15,6 +15,8 @@
  * see scripts/lib/csv-columns.ts. A header naming one column twice is refused.
  */
 import { EngineInputError, runModel, toYesNo, type CovariateSpec, type CovarianceType, type LinkName, type ModelResults, type ModelSpec } from '../shared/utils/stats/index'
+import { isMainThread } from 'node:worker_threads'
+import { PARALLEL_MIN_ROWS, createPassPool, type PassPool } from '../server/workers/pass-pool'
 import { CsvError, readCsvColumns, separatorLabel, type CsvColumn, type CsvTable } from './lib/csv-columns'
 
 class UsageError extends Error {}
@@ -232,7 +234,12 @@ function main(): void {
   }
   const readMs = performance.now() - t0
   const { spec, used } = buildSpec(args, table)
-  const results = runModel(engineColumns(table, used), spec)
+  // Large files: the row passes on every core (threads over shared memory, see server/workers/pass-pool.ts).
+  let pool: PassPool | null = null
+  const results = runModel(engineColumns(table, used), spec, {
+    parallel: (design, link) => (design.n >= PARALLEL_MIN_ROWS ? (pool = createPassPool(design, link, new URL(import.meta.url))) : null)
+  })
+  void (pool as PassPool | null)?.close()
   if (args.json) process.stdout.write(`${JSON.stringify({ ...results, timings: { ...results.timings, readMs } }, null, 2)}\n`)
   else {
     const sep = table.separator === ',' ? '' : ` (columns separated by ${separatorLabel(table.separator)})`
@@ -240,13 +247,18 @@ function main(): void {
   }
 }
 
-try {
-  main()
-}
-catch (e) {
-  if (e instanceof UsageError || e instanceof EngineInputError || e instanceof CsvError) {
-    process.stderr.write(`fit: ${e.message}\n`)
-    process.exit(2)
+// Helper threads of the pass pool load this same file: only the main thread runs the command.
+function cli(): void {
+  try {
+    main()
   }
-  throw e
+  catch (e) {
+    if (e instanceof UsageError || e instanceof EngineInputError || e instanceof CsvError) {
+      process.stderr.write(`fit: ${e.message}\n`)
+      process.exit(2)
+    }
+    throw e
+  }
 }
+
+if (isMainThread) cli()

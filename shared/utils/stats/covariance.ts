@@ -19,7 +19,8 @@ import type { Design } from './design'
 import { EngineInputError } from './errors'
 import { toShifted, type FitResult } from './fit'
 import { invertSpd, sandwich } from './linalg'
-import { getLink } from './links'
+import { getLink, type Link } from './links'
+import type { ParallelPasses } from './parallel'
 import type { CovarianceType } from './types'
 
 export interface Covariance {
@@ -59,7 +60,31 @@ export function unshiftCovariance(Vt: Float64Array, c: Float64Array, k: number):
   return V
 }
 
-export function computeCovariance(design: Design, fit: FitResult, type: CovarianceType): Covariance {
+/** Adds the score sums u_g = Σ_{i∈g} w_i ℓ'_i x̃_i of rows [start, end) to U (G×k); x̃ = x − c. */
+export function clusterScoresRange(design: Design, link: Link, b: ArrayLike<number>, c: Float64Array, start: number, end: number, U: Float64Array): void {
+  const { k, X, y, w } = design
+  const cl = design.cluster!
+  const t = new Float64Array(3)
+  for (let i = start; i < end; i++) {
+    const off = i * k
+    let eta = 0
+    for (let j = 0; j < k; j++) eta += (X[off + j]! - c[j]!) * b[j]!
+    link.obsTerms(eta, y[i]!, t)
+    const s = (w ? w[i]! : 1) * t[1]!
+    const uo = cl[i]! * k
+    for (let j = 0; j < k; j++) U[uo + j]! += s * (X[off + j]! - c[j]!)
+  }
+}
+
+/** Number of clusters G (labels, or the largest index + 1). */
+export function clusterCount(design: Design): number {
+  let G = design.clusterLabels.length
+  const cl = design.cluster
+  if (cl) for (let i = 0; i < design.n; i++) G = Math.max(G, cl[i]! + 1)
+  return G
+}
+
+export function computeCovariance(design: Design, fit: FitResult, type: CovarianceType, parallel: ParallelPasses | null = null): Covariance {
   const { n, k, X, y, w } = design
   if (type === 'conventional') return { type, V: informationInverse(fit, k), factor: 1, clusters: null }
   // The sandwich is formed in the shifted coordinates when the fit used them (see fit.ts), then moved back.
@@ -80,18 +105,12 @@ export function computeCovariance(design: Design, fit: FitResult, type: Covarian
   const meat = new Float64Array(k * k)
   let G = 0
   if (type === 'cluster') {
-    const cl = design.cluster!
-    G = design.clusterLabels.length
-    for (let i = 0; i < n; i++) G = Math.max(G, cl[i]! + 1)
-    const U = new Float64Array(G * k)
-    for (let i = 0; i < n; i++) {
-      const off = i * k
-      let eta = 0
-      for (let j = 0; j < k; j++) eta += (X[off + j]! - c[j]!) * b[j]!
-      link.obsTerms(eta, y[i]!, t)
-      const s = (w ? w[i]! : 1) * t[1]!
-      const uo = cl[i]! * k
-      for (let j = 0; j < k; j++) U[uo + j]! += s * (X[off + j]! - c[j]!)
+    G = clusterCount(design)
+    let U: Float64Array
+    if (parallel) U = parallel.clusterScores(Float64Array.from(b), c)
+    else {
+      U = new Float64Array(G * k)
+      clusterScoresRange(design, link, b, c, 0, n, U)
     }
     for (let g = 0; g < G; g++) {
       const uo = g * k

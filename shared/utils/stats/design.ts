@@ -10,7 +10,7 @@
 import { dropCollinearColumns } from './collinearity'
 import { EngineInputError, type EngineWarning } from './errors'
 import type { CovariateSpec, CovariateType, DroppedRows, ModelSpec } from './types'
-import { accessData, isMissing, toLevel, toNumber, toYesNo, type DataAccessor, type DataInput } from './values'
+import { accessData, isCodedColumn, isMissing, toLevel, toNumber, toYesNo, type DataAccessor, type DataInput } from './values'
 
 export type TermKind = 'intercept' | 'main' | 'square' | 'dummy' | 'interaction'
 
@@ -496,7 +496,17 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
   if (spec.cluster) {
     const typed = typedColumn(data, spec.cluster)
     cluster = new Int32Array(n)
-    if (typed) {
+    const coded = Array.isArray(data) ? null : (data as Record<string, unknown>)[spec.cluster]
+    if (isCodedColumn(coded)) {
+      // Coded text: labels from the levels the rows use, indices through a code → index table.
+      const used = new Uint8Array(coded.levels.length)
+      for (let r = 0; r < n; r++) used[coded.codes[rowIndex[r]!]!] = 1
+      clusterLabels = [...new Set(coded.levels.filter((_, c) => used[c]).map(l => toLevel(l)))].sort((p, q) => (p < q ? -1 : p > q ? 1 : 0))
+      const byLabel = new Map(clusterLabels.map((l, g) => [l, g]))
+      const table = Int32Array.from(coded.levels, l => byLabel.get(toLevel(l)) ?? -1)
+      for (let r = 0; r < n; r++) cluster[r] = table[coded.codes[rowIndex[r]!]!]!
+    }
+    else if (typed) {
       // Numeric cluster codes: the distinct values first, one label each (same labels and order as below).
       const seen = new Set<number>()
       for (let r = 0; r < n; r++) seen.add(typed[rowIndex[r]!]!)

@@ -16,9 +16,10 @@
 import { checkSeparation } from './separation'
 import type { Design } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
-import { evaluate, type PassResult } from './likelihood'
+import { evaluate as evaluateSerial, type PassResult } from './likelihood'
 import { choleskyInPlace, choleskySolve } from './linalg'
 import { getLink, type Link, type LinkName } from './links'
+import type { ParallelPasses } from './parallel'
 import type { IterationRecord } from './types'
 
 export interface FitOptions {
@@ -31,6 +32,8 @@ export interface FitOptions {
   skipSeparationCheck?: boolean
   /** Start from a Newton fit on a 5% systematic subsample when n ≥ 40 000 (default true). */
   warmStart?: boolean
+  /** The fused pass split across threads (see parallel.ts); used for the full data, not the subsample. */
+  parallel?: ParallelPasses | null
 }
 
 export interface FitResult {
@@ -111,10 +114,11 @@ interface LoopState {
 }
 
 /** Newton–Raphson with step halving from `b0`; see the module comment for the rules. */
-function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: number, gradTol: number, relTol: number): LoopState {
+function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: number, gradTol: number, relTol: number, parallel: ParallelPasses | null = null): LoopState {
   const k = design.k
   let b = b0
   const shift = design.shift ?? null
+  const evaluate = (d: Design, l: Link, at: Float64Array, s: Float64Array | null): PassResult => (parallel ? parallel.evaluate(at, s) : evaluateSerial(d, l, at, s))
   let cur = evaluate(design, link, b, shift)
   if (!Number.isFinite(cur.loglik)) throw new EngineInputError('non_finite_input', 'log-likelihood is not finite at the starting values')
   const iterations: IterationRecord[] = []
@@ -235,7 +239,7 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
       }
     }
   }
-  const { b: bFinal, cur, iterations, converged, lineSearchFailed, ridgedAtEnd } = newtonLoop(design, link, b, maxIter, gradTol, relTol)
+  const { b: bFinal, cur, iterations, converged, lineSearchFailed, ridgedAtEnd } = newtonLoop(design, link, b, maxIter, gradTol, relTol, options.parallel ?? null)
   b = bFinal
 
   if (lineSearchFailed) {

@@ -6,10 +6,12 @@
  */
 import { ascendingOrder, classificationTable, hosmerLemeshow, rocCurve } from './classification'
 import { computeCovariance, type Covariance } from './covariance'
-import { buildDesign } from './design'
+import { buildDesign, type Design } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
 import { fitBinary } from './fit'
+import type { LinkName } from './links'
 import { marginalEffects } from './margins'
+import type { ParallelPasses } from './parallel'
 import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
 import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
 import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
@@ -33,14 +35,23 @@ export function summariseCovariance(cov: Covariance, terms: string[]): Covarianc
   return { type: cov.type, factor: cov.factor, clusters: cov.clusters, terms, matrix }
 }
 
-export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
+export interface RunOptions {
+  /**
+   * Supplies passes split across threads for a design (see parallel.ts), or null to stay on one thread. The
+   * engine is pure: threads are the host's, injected here; the single-thread path is the default.
+   */
+  parallel?: (design: Design, link: LinkName) => ParallelPasses | null
+}
+
+export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions = {}): ModelResults {
   const t0 = now()
   const design = buildDesign(data, spec)
   const t1 = now()
-  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations })
+  const parallel = options.parallel?.(design, spec.link ?? 'probit') ?? null
+  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations, parallel })
   const t2 = now()
   const seType = spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
-  const cov = computeCovariance(design, fit, seType)
+  const cov = computeCovariance(design, fit, seType, parallel)
   const coefficients = coefficientTable(design, fit, cov)
   const fitStats = fitStatistics(design, fit)
   const p = predictProbabilities(design, fit)
@@ -56,9 +67,9 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
   const hl = hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10, order)
   const t3 = now()
   const marginsKind = spec.margins ?? 'ame'
-  const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt })
+  const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt, parallel })
   const otherKind = marginsKind === 'ame' ? 'mem' : marginsKind === 'mem' ? 'ame' : null
-  const otherMargins = spec.bothMargins && otherKind ? marginalEffects(design, fit, cov, { kind: otherKind }) : null
+  const otherMargins = spec.bothMargins && otherKind ? marginalEffects(design, fit, cov, { kind: otherKind, parallel }) : null
   const t4 = now()
   const villages = design.cluster ? villageMeans(design, fit, cov) : null
   const overall = overallMean(design, fit, cov)

@@ -5,8 +5,24 @@
 import { EngineInputError } from './errors'
 
 export type DataRows = ReadonlyArray<Readonly<Record<string, unknown>>>
-/** Column-oriented data: one array (plain or typed) per variable, all of the same length. */
-export type DataColumns = Readonly<Record<string, ArrayLike<unknown>>>
+/**
+ * A text column stored as codes into its distinct values (code −1: missing): compact, and it crosses to a
+ * worker thread as one transferable buffer instead of a million strings.
+ */
+export interface CodedColumn {
+  codes: Int32Array
+  levels: string[]
+}
+/** Column-oriented data: one array (plain or typed) or coded column per variable, all of the same length. */
+export type DataColumns = Readonly<Record<string, ArrayLike<unknown> | CodedColumn>>
+
+export function isCodedColumn(col: unknown): col is CodedColumn {
+  return typeof col === 'object' && col !== null && (col as CodedColumn).codes instanceof Int32Array && Array.isArray((col as CodedColumn).levels)
+}
+
+function columnLength(col: ArrayLike<unknown> | CodedColumn): number {
+  return isCodedColumn(col) ? col.codes.length : col.length
+}
 export type DataInput = DataRows | DataColumns
 
 export interface DataAccessor {
@@ -29,10 +45,10 @@ export function accessData(data: DataInput): DataAccessor {
   }
   const cols = data as DataColumns
   const keys = Object.keys(cols)
-  const n = keys.length ? cols[keys[0]!]!.length : 0
+  const n = keys.length ? columnLength(cols[keys[0]!]!) : 0
   for (const key of keys) {
-    if (cols[key]!.length !== n) {
-      throw new EngineInputError('invalid_spec', `column '${key}' has ${cols[key]!.length} values, expected ${n}`, [key])
+    if (columnLength(cols[key]!) !== n) {
+      throw new EngineInputError('invalid_spec', `column '${key}' has ${columnLength(cols[key]!)} values, expected ${n}`, [key])
     }
   }
   return {
@@ -40,6 +56,10 @@ export function accessData(data: DataInput): DataAccessor {
     has: name => Object.prototype.hasOwnProperty.call(cols, name),
     column: (name) => {
       const col = cols[name]!
+      if (isCodedColumn(col)) {
+        const { codes, levels } = col
+        return (i: number) => (codes[i]! < 0 ? null : levels[codes[i]!])
+      }
       return (i: number) => col[i]
     }
   }
