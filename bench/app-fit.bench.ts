@@ -11,13 +11,11 @@
  */
 import { spawn } from 'node:child_process'
 import { readFileSync } from 'node:fs'
-import { dirname, join } from 'node:path'
-import { fileURLToPath } from 'node:url'
+import { join } from 'node:path'
 import { startStack } from '../scripts/lib/stack.mjs'
 import { DATA, findExecutable } from '../scripts/lib/system.mjs'
 import { mergeResults, printTable, round, type BenchEntry } from './lib/results-file'
 
-const here = dirname(fileURLToPath(import.meta.url))
 const SIZES = [1e5, 1e6]
 const K = 10
 const VILLAGES = 500
