@@ -16,7 +16,7 @@
  */
 import { EngineInputError, runModel, toYesNo, type CovariateSpec, type CovarianceType, type LinkName, type ModelResults, type ModelSpec } from '../shared/utils/stats/index'
 import { isMainThread } from 'node:worker_threads'
-import { PARALLEL_MIN_ROWS, createPassPool, type PassPool } from '../server/workers/pass-pool'
+import { PARALLEL_MIN_ROWS, startPassHelpers } from '../server/workers/pass-pool'
 import { CsvError, readCsvColumns, separatorLabel, type CsvColumn, type CsvTable } from './lib/csv-columns'
 
 class UsageError extends Error {}
@@ -221,7 +221,7 @@ function report(res: ModelResults, file: string): string {
   return out.join('\n')
 }
 
-function main(): void {
+async function main(): Promise<void> {
   const args = parseArgs(process.argv.slice(2))
   const t0 = performance.now()
   let table: CsvTable
@@ -235,11 +235,16 @@ function main(): void {
   const readMs = performance.now() - t0
   const { spec, used } = buildSpec(args, table)
   // Large files: the row passes on every core (threads over shared memory, see server/workers/pass-pool.ts).
-  let pool: PassPool | null = null
-  const results = runModel(engineColumns(table, used), spec, {
-    parallel: (design, link) => (design.n >= PARALLEL_MIN_ROWS ? (pool = createPassPool(design, link, new URL(import.meta.url))) : null)
-  })
-  void (pool as PassPool | null)?.close()
+  const helpers = table.rows >= PARALLEL_MIN_ROWS ? await startPassHelpers(new URL(import.meta.url)) : null
+  let results: ModelResults
+  try {
+    results = runModel(engineColumns(table, used), spec, {
+      parallel: (design, link) => (helpers && design.n >= PARALLEL_MIN_ROWS ? helpers.attach(design, link) : null)
+    })
+  }
+  finally {
+    void helpers?.close()
+  }
   if (args.json) process.stdout.write(`${JSON.stringify({ ...results, timings: { ...results.timings, readMs } }, null, 2)}\n`)
   else {
     const sep = table.separator === ',' ? '' : ` (columns separated by ${separatorLabel(table.separator)})`
@@ -248,9 +253,9 @@ function main(): void {
 }
 
 // Helper threads of the pass pool load this same file: only the main thread runs the command.
-function cli(): void {
+async function cli(): Promise<void> {
   try {
-    main()
+    await main()
   }
   catch (e) {
     if (e instanceof UsageError || e instanceof EngineInputError || e instanceof CsvError) {
@@ -261,4 +266,4 @@ function cli(): void {
   }
 }
 
-if (isMainThread) cli()
+if (isMainThread) void cli()

@@ -4,29 +4,35 @@
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
 import type { FitRequest, FitReply } from './fit-protocol'
-import { PARALLEL_MIN_ROWS, createPassPool, type PassPool } from './pass-pool'
+import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-pool'
 
-function fit(request: FitRequest): FitReply {
-  let pool: PassPool | null = null
+function rowsOf(data: FitRequest['data']): number {
+  if (Array.isArray(data)) return data.length
+  const first = Object.values(data)[0] as { length?: number, codes?: Int32Array } | undefined
+  return first?.codes?.length ?? first?.length ?? 0
+}
+
+async function fit(request: FitRequest): Promise<FitReply> {
+  const helpers: PassHelpers | null = rowsOf(request.data) >= PARALLEL_MIN_ROWS ? await startPassHelpers(new URL(import.meta.url)) : null
   try {
     return {
       ok: true,
       results: runModel(request.data, request.spec, {
-        parallel: (design, link) => (design.n >= PARALLEL_MIN_ROWS ? (pool = createPassPool(design, link, new URL(import.meta.url))) : null)
+        parallel: (design, link) => (helpers && design.n >= PARALLEL_MIN_ROWS ? helpers.attach(design, link) : null)
       })
     }
   }
   finally {
-    void (pool as PassPool | null)?.close()
+    void helpers?.close()
   }
 }
 
 // A pass helper (started by pass-pool.ts from this file) never reaches here: its loop runs at import.
 if (!isMainThread && workerData?.role !== 'furrowcast-pass') {
-  parentPort?.on('message', (request: FitRequest) => {
+  parentPort?.on('message', async (request: FitRequest) => {
     let reply: FitReply
     try {
-      reply = fit(request)
+      reply = await fit(request)
     }
     catch (error) {
       reply = error instanceof EngineInputError

@@ -98,8 +98,8 @@ function accumulate(
 ): { values: Float64Array, jac: Float64Array[] } {
   const k = design.k
   const m = effects.length
-  let values = new Float64Array(m)
-  let jac = effects.map(() => new Float64Array(k))
+  let values: Float64Array = new Float64Array(m)
+  let jac: Float64Array[] = effects.map(() => new Float64Array(k))
   let W: number
   const shared = !profileAt && parallel ? parallel.ame(b) : null
   if (shared) {
