@@ -169,6 +169,24 @@ sm.Probit(df["y"].to_numpy(dtype=float), X).fit(method="newton", disp=0, cov_typ
 `
 
 type Entry = BenchEntry
+type PassTimes = Record<'fused' | 'cluster' | 'ame', number>
+
+interface ChildResult {
+  n: number
+  fitMs: number
+  fullMs: number
+  fitParMs: number
+  fullParMs: number
+  threads: number
+  iterations: number
+  rssMb: number
+  designMb: number
+  coef: number[]
+  maxRel: number
+  passes1: PassTimes
+  passesN: PassTimes
+  bytes: PassTimes
+}
 
 function peer(csv: string, n: number): { fit_ms: number, full_ms: number, iterations: number, version: string, coef: number[] } | null {
   const r = spawnSync(PYTHON, [join(here, 'statsmodels_peer.py'), csv, String(reps(n))], { encoding: 'utf8', maxBuffer: 1 << 24 })
@@ -197,10 +215,7 @@ async function main(): Promise<void> {
     }
     const r = spawnSync(process.execPath, [self, '--child', String(n)], { encoding: 'utf8', maxBuffer: 1 << 24 })
     if (r.status !== 0) throw new Error(`benchmark child for n=${n} failed: ${r.stderr}`)
-    const ours = JSON.parse(r.stdout.trim().split('\n').pop()!) as {
-      n: number, fitMs: number, fullMs: number, fitParMs: number, fullParMs: number, threads: number, iterations: number, rssMb: number, designMb: number, coef: number[], maxRel: number
-      passes1: Record<'fused' | 'cluster' | 'ame', number>, passesN: Record<'fused' | 'cluster' | 'ame', number>, bytes: Record<'fused' | 'cluster' | 'ame', number>
-    }
+    const ours = JSON.parse(r.stdout.trim().split('\n').pop()!) as ChildResult
     const sm = peer(csv, n)
     if (sm) {
       const maxDiff = Math.max(...ours.coef.map((c, j) => Math.abs(c - sm.coef[j]!)))
