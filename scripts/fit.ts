@@ -206,8 +206,15 @@ function report(res: ModelResults, file: string): string {
     out.push('')
   }
   out.push('How well the model fits')
-  out.push(`  log-likelihood ${fmt(f.loglik, 3)} (intercept only ${fmt(f.loglikNull, 3)}); LR χ² ${fmt(f.lrChi2, 2)} on ${f.lrDf} df, p ${pfmt(f.lrP)}`)
-  out.push(`  McFadden R² ${fmt(f.mcfaddenR2, 4)}; AIC ${fmt(f.aic, 2)}; BIC ${fmt(f.bic, 2)}; area under ROC ${fmt(res.roc.auc, 4)}`)
+  if (f.notAvailable) {
+    out.push(`  pseudo-log-likelihood ${fmt(f.loglik, 3)} (it scales with the weights); area under ROC ${fmt(res.roc.auc, 4)}`)
+    out.push(`  ${f.notAvailable}`)
+  }
+  else {
+    out.push(`  log-likelihood ${fmt(f.loglik, 3)} (intercept only ${fmt(f.loglikNull, 3)}); LR χ² ${fmt(f.lrChi2, 2)} on ${f.lrDf} df, p ${pfmt(f.lrP)}`)
+    out.push(`  McFadden R² ${fmt(f.mcfaddenR2, 4)}; AIC ${fmt(f.aic, 2)}; BIC ${fmt(f.bic, 2)}; area under ROC ${fmt(res.roc.auc, 4)}`)
+  }
+  if (f.wald) out.push(`  Wald test that all slopes are 0: ${f.wald.kind === 'F' ? `F ${fmt(f.wald.statistic, 2)} on (${f.wald.df}, ${f.wald.df2}) df` : `χ² ${fmt(f.wald.statistic, 2)} on ${f.wald.df} df`}, p ${pfmt(f.wald.p)}`)
   const c = res.classification
   out.push(`  at cut-off ${c.cutoff}: ${fmt(100 * c.shareCorrect, 1)}% classified correctly (sensitivity ${c.sensitivity === null ? '—' : fmt(100 * c.sensitivity, 1)}%, specificity ${c.specificity === null ? '—' : fmt(100 * c.specificity, 1)}%)`)
   if (res.hosmerLemeshow) out.push(`  Hosmer–Lemeshow over ${res.hosmerLemeshow.groups.length} groups: ${fmt(res.hosmerLemeshow.statistic, 2)} on ${res.hosmerLemeshow.df} df, p ${pfmt(res.hosmerLemeshow.p)}`)

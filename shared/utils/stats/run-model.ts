@@ -13,11 +13,11 @@ import type { LinkName } from './links'
 import { marginalEffects } from './margins'
 import type { ParallelPasses } from './parallel'
 import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
-import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
+import { coefficientTable, finiteOrNull, fitStatistics, waldAllSlopes } from './summary'
 import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
 import type { DataInput } from './values'
 
-export const ENGINE_VERSION = '1.0.0'
+export const ENGINE_VERSION = '1.1.0'
 
 /** Clock that works in browsers, workers and Node. */
 function now(): number {
@@ -54,6 +54,7 @@ export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions =
   const cov = computeCovariance(design, fit, seType, parallel)
   const coefficients = coefficientTable(design, fit, cov)
   const fitStats = fitStatistics(design, fit)
+  fitStats.wald = waldAllSlopes(fit, cov, design.n, design.w !== null)
   const p = predictProbabilities(design, fit)
   let cutoff = 0.5
   if (spec.cutoff === 'sample-rate') cutoff = (fitStats.weightSum > 0 ? sumWeighted(design.y, design.w) / fitStats.weightSum : 0.5)
@@ -64,7 +65,8 @@ export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions =
   const classification = classificationTable(p, design.y, design.w, cutoff)
   const order = ascendingOrder(p)
   const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101, order)
-  const hl = hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10, order)
+  // With sampling weights the Hosmer–Lemeshow statistic scales with the weights: not shown (see FitStatistics).
+  const hl = design.w ? null : hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10, order)
   const t3 = now()
   const marginsKind = spec.margins ?? 'ame'
   const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt, parallel })
@@ -86,7 +88,7 @@ export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions =
   if (seType === 'cluster' && cov.clusters !== null && cov.clusters < 30) {
     warnings.push({ code: 'few_clusters', message: `only ${cov.clusters} clusters: cluster-robust standard errors may be too small` })
   }
-  const minGroup = Math.min(...hl.groups.map(g => g.expected))
+  const minGroup = hl ? Math.min(...hl.groups.map(g => g.expected)) : Infinity
   if (minGroup < 5) {
     warnings.push({ code: 'small_hl_groups', message: 'some Hosmer–Lemeshow groups expect fewer than 5 adopters; the test is approximate' })
   }

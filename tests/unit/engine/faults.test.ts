@@ -7,7 +7,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { buildDesign, evaluate, fitBinary, getLink, runModel } from '../../../shared/utils/stats/index'
+import { buildDesign, evaluate, fitBinary, fSf, getLink, runModel } from '../../../shared/utils/stats/index'
 import { normal, prng } from '../../../shared/utils/random/prng'
 import { relErr } from './helpers'
 
@@ -62,7 +62,7 @@ beforeAll(() => {
   ref = JSON.parse(readFileSync(join(dir, 'out.json'), 'utf8'))
 }, 120_000)
 
-describe('collinearity test is scale-invariant (fault 1)', () => {
+describe('collinearity test is scale-invariant (fault 1)', { timeout: 120_000 }, () => {
   for (const [idx, c] of cases.entries()) {
     it(`keeps a real covariate with a small spread beside its level: ${c.name}`, () => {
       const res = runModel(c.rows, { outcome: 'y', covariates: c.covariates.map(name => ({ name })) })
@@ -86,7 +86,7 @@ describe('collinearity test is scale-invariant (fault 1)', () => {
   })
 })
 
-describe('the fit returns the final Newton iterate (fault 5)', () => {
+describe('the fit returns the final Newton iterate (fault 5)', { timeout: 120_000 }, () => {
   it('no Newton step is left at the returned estimate, and ℓ, g, H belong to it', () => {
     const c = cases[1]!
     const design = buildDesign(c.rows.map(r => ({ ...r, v: r.v - 1e5 })), { outcome: 'y', covariates: [{ name: 'v' }, { name: 'z' }] })
@@ -105,7 +105,7 @@ describe('the fit returns the final Newton iterate (fault 5)', () => {
   })
 })
 
-describe('numeric text is decimal notation only (fault 3)', () => {
+describe('numeric text is decimal notation only (fault 3)', { timeout: 120_000 }, () => {
   it('refuses 0x1A, 0b11, 0o7, Infinity and NaN as numbers, and reads exponents', () => {
     const rows = (v: string) => Array.from({ length: 30 }, (_, i) => ({ y: i % 3 === 0 ? 1 : 0, x: i === 4 ? v : String((i * 7) % 11) }))
     for (const bad of ['0x1A', '0b11', '0o7', 'Infinity', 'NaN']) {
@@ -113,5 +113,54 @@ describe('numeric text is decimal notation only (fault 3)', () => {
     }
     const d = buildDesign(rows('2.5e1'), { outcome: 'y', covariates: [{ name: 'x' }] })
     expect(d.X[4 * d.k + 1]).toBe(25)
+  })
+})
+
+describe('fit statistics with sampling weights (fault 2)', { timeout: 120_000 }, () => {
+  const u = prng(21)
+  const rows = Array.from({ length: 3000 }, (_, i) => {
+    const x = normal(u)
+    const z = normal(u)
+    return { y: 0.3 + 0.5 * x - 0.4 * z + normal(u) > 0 ? 1 : 0, x, z, w: 0.5 + 2 * u(), v: `V${i % 40}` }
+  })
+  const spec = { outcome: 'y', covariates: [{ name: 'x' }, { name: 'z' }], weights: 'w', cluster: 'v', se: 'cluster' as const }
+
+  it('shows no scale-dependent likelihood figure, and a Wald test that does not move when the weights are scaled', () => {
+    const a = runModel(rows, spec)
+    const b = runModel(rows.map(r => ({ ...r, w: 100 * r.w })), spec)
+    for (const res of [a, b]) {
+      expect(res.fit.lrChi2).toBeNull()
+      expect(res.fit.lrP).toBeNull()
+      expect(res.fit.aic).toBeNull()
+      expect(res.fit.bic).toBeNull()
+      expect(res.fit.mcfaddenR2).toBeNull()
+      expect(res.hosmerLemeshow).toBeNull()
+      expect(res.fit.notAvailable).toMatch(/not available/)
+    }
+    // Coefficients and cluster SEs do not depend on the scale of the weights; neither does the Wald test.
+    a.coefficients.forEach((c, j) => {
+      expect(relErr(b.coefficients[j]!.estimate, c.estimate)).toBeLessThan(1e-10)
+      expect(relErr(b.coefficients[j]!.se!, c.se!)).toBeLessThan(1e-10)
+    })
+    expect(a.fit.wald!.kind).toBe('F')
+    expect(a.fit.wald!.df).toBe(2)
+    expect(a.fit.wald!.df2).toBe(39)
+    expect(relErr(b.fit.wald!.statistic, a.fit.wald!.statistic)).toBeLessThan(1e-10)
+    // The LR test and AIC would have moved 100-fold: the reason they are withheld.
+    const unweighted = runModel(rows, { ...spec, weights: undefined })
+    expect(unweighted.fit.lrChi2).not.toBeNull()
+    expect(unweighted.fit.wald!.kind).toBe('F')
+  })
+
+  it('the Wald F of one slope is z², and its p-value is the F(1, G − 1) tail (reference: scipy.stats.f.sf)', () => {
+    const res = runModel(rows, { ...spec, covariates: [{ name: 'x' }] })
+    const z = res.coefficients[1]!.z!
+    expect(relErr(res.fit.wald!.statistic, z * z)).toBeLessThan(1e-10)
+    const cases: Array<[number, number, number]> = [[res.fit.wald!.statistic, 1, 39], [2.5, 3, 12], [0.7, 5, 200], [4.1, 2, 10]]
+    const r = spawnSync(PY, ['-c', 'import json,sys; from scipy import stats; print(json.dumps([float(stats.f.sf(f, a, b)) for f, a, b in json.loads(sys.argv[1])]))', JSON.stringify(cases)], { encoding: 'utf8' })
+    expect(r.status, r.stderr).toBe(0)
+    const ref = JSON.parse(r.stdout) as number[]
+    cases.forEach(([f, d1, d2], i) => expect(relErr(fSf(f, d1, d2), ref[i]!), `${f} ${d1} ${d2}`).toBeLessThan(1e-9))
+    expect(relErr(res.fit.wald!.p, ref[0]!)).toBeLessThan(1e-9)
   })
 })
