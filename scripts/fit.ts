@@ -3,15 +3,21 @@
  *
  *   npm run fit -- FILE.csv --outcome COL [--covariates a,b,c] [--categorical c]
  *     [--link probit|logit|cloglog|cauchit] [--se conventional|robust|hc1|cluster:COL]
- *     [--weights COL] [--margins ame|mem] [--json]
+ *     [--weights COL] [--margins ame|mem] [--separator ';'] [--decimal ,] [--json]
  *
  * Without --covariates every other column is used (except weights, cluster and an unnamed
  * row-number column). Text columns with two yes/no (or true/false) values become yes/no
  * covariates; other text columns must be listed in --categorical. Problems with the file,
  * the columns or the outcome print ONE line on stderr and exit with code 2.
+ *
+ * The separator is read from the header line (comma, semicolon, tab or vertical bar) unless --separator names
+ * it; numeric cells must be decimal notation with the declared decimal separator (--decimal, '.' by default),
+ * see scripts/lib/csv-columns.ts. A header naming one column twice is refused.
  */
-import { readFileSync } from 'node:fs'
 import { EngineInputError, runModel, toYesNo, type CovariateSpec, type CovarianceType, type LinkName, type ModelResults, type ModelSpec } from '../shared/utils/stats/index'
+import { isMainThread } from 'node:worker_threads'
+import { PARALLEL_MIN_ROWS, startPassHelpers } from '../server/workers/pass-pool'
+import { CsvError, readCsvColumns, separatorLabel, type CsvColumn, type CsvTable } from './lib/csv-columns'
 
 class UsageError extends Error {}
 
@@ -25,6 +31,8 @@ interface Args {
   weights: string | null
   margins: 'ame' | 'mem'
   json: boolean
+  separator: string | undefined
+  decimal: string | undefined
 }
 
 function parseArgs(argv: string[]): Args {
@@ -63,6 +71,12 @@ function parseArgs(argv: string[]): Args {
       case '--json':
         a.json = true
         break
+      case '--separator':
+        a.separator = value() === '\\t' ? '\t' : argv[i]
+        break
+      case '--decimal':
+        a.decimal = value()
+        break
       default:
         if (arg.startsWith('--')) throw new UsageError(`unknown option ${arg}`)
         rest.push(arg)
@@ -76,64 +90,43 @@ function parseArgs(argv: string[]): Args {
   if (margins !== 'ame' && margins !== 'mem') throw new UsageError(`--margins must be ame or mem (got '${String(margins)}')`)
   return {
     file: rest[0]!, outcome: a.outcome, covariates: a.covariates ?? null, categorical: a.categorical,
-    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json
+    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json, separator: a.separator, decimal: a.decimal
   }
 }
 
-/** RFC 4180-style CSV: quoted fields with "" escapes and embedded commas/newlines, CRLF or LF. */
-export function parseCsv(text: string): { header: string[], rows: string[][] } {
-  const records: string[][] = []
-  let field = ''
-  let record: string[] = []
-  let quoted = false
-  let i = 0
-  if (text.charCodeAt(0) === 0xFEFF) i = 1
-  for (; i < text.length; i++) {
-    const ch = text[i]!
-    if (quoted) {
-      if (ch === '"') {
-        if (text[i + 1] === '"') {
-          field += '"'
-          i++
-        }
-        else quoted = false
+/** Engine input: typed arrays for complete numeric columns, plain arrays where cells are missing or text. */
+function engineColumns(table: CsvTable, used: Set<string>): Record<string, ArrayLike<unknown>> {
+  const out: Record<string, ArrayLike<unknown>> = {}
+  for (const c of table.columns) {
+    if (!used.has(c.name)) continue
+    if (!c.text && c.missing === 0) out[c.name] = c.values
+    else {
+      const arr = new Array<string | number | null>(table.rows)
+      for (let r = 0; r < table.rows; r++) {
+        const v = c.values[r]!
+        arr[r] = Number.isNaN(v) ? (c.text?.get(r) ?? null) : v
       }
-      else field += ch
+      out[c.name] = arr
     }
-    else if (ch === '"') quoted = true
-    else if (ch === ',') {
-      record.push(field)
-      field = ''
-    }
-    else if (ch === '\n' || ch === '\r') {
-      if (ch === '\r' && text[i + 1] === '\n') i++
-      record.push(field)
-      records.push(record)
-      record = []
-      field = ''
-    }
-    else field += ch
   }
-  if (quoted) throw new UsageError('the file ends inside a quoted field')
-  if (field !== '' || record.length) {
-    record.push(field)
-    records.push(record)
-  }
-  const nonEmpty = records.filter(r => !(r.length === 1 && r[0] === ''))
-  if (nonEmpty.length < 2) throw new UsageError('the file has no data rows')
-  const header = nonEmpty[0]!
-  nonEmpty.slice(1).forEach((r, idx) => {
-    if (r.length !== header.length) throw new UsageError(`line ${idx + 2} has ${r.length} fields, the header has ${header.length}`)
-  })
-  return { header, rows: nonEmpty.slice(1) }
+  return out
 }
 
-const isMissingText = (s: string): boolean => s.trim() === '' || s.trim() === 'NA'
+/** The first text cell of a mostly numeric column, as a per-cell refusal naming the line. */
+function notDecimal(table: CsvTable, c: CsvColumn, decimal: string): UsageError {
+  const [row, cell] = [...c.text!.entries()].sort((p, q) => p[0] - q[0])[0]!
+  const comma = decimal === '.' && /^[-+]?\d+,\d+$/.test(cell) ? ' (a decimal comma? pass --decimal ,)' : decimal === ',' && /^[-+]?\d+\.\d+$/.test(cell) ? ` (the decimal separator was declared as ',')` : ''
+  return new UsageError(`column '${c.name}', line ${table.lineOfRow(row)}: '${cell}' is not a decimal number${comma}; write numbers as digits with an optional '${decimal}' and exponent, or leave the cell empty`)
+}
 
-function buildSpec(args: Args, header: string[], columns: Record<string, Array<string | number | null>>): ModelSpec {
-  const known = new Set(header)
+function buildSpec(args: Args, table: CsvTable): { spec: ModelSpec, used: Set<string> } {
+  const header = table.columns.map(c => c.name)
+  const byName = new Map(table.columns.map(c => [c.name, c]))
   const need = (c: string, role: string): void => {
-    if (!known.has(c)) throw new UsageError(`unknown column '${c}' (${role}); the file has: ${header.filter(Boolean).join(', ')}`)
+    if (!byName.has(c)) {
+      const hint = header.length === 1 && /[;\t|]/.test(header[0]!) ? ` (the header has one column: is the file separated by something else? pass --separator)` : ''
+      throw new UsageError(`unknown column '${c}' (${role}); the file has: ${header.filter(Boolean).join(', ')}${hint}`)
+    }
   }
   need(args.outcome, 'outcome')
   let cluster: string | undefined
@@ -151,15 +144,26 @@ function buildSpec(args: Args, header: string[], columns: Record<string, Array<s
   const names = args.covariates ?? header.filter(h => h !== '' && h !== args.outcome && h !== args.weights && h !== cluster)
   for (const c of names) need(c, 'covariate')
   if (!names.length) throw new UsageError('no covariates to use')
+  const decimal = args.decimal ?? '.'
   const covariates: CovariateSpec[] = names.map((name) => {
     if (args.categorical.includes(name)) return { name, type: 'categorical' }
-    const values = columns[name]!.filter((v): v is string | number => v !== null)
-    if (values.every(v => typeof v === 'number')) return { name, type: 'numeric' }
-    const distinct = new Set(values.map(v => String(v).trim().toLowerCase()))
+    const col = byName.get(name)!
+    if (!col.text) return { name, type: 'numeric' }
+    const distinct = new Set<string>()
+    for (const t of col.text.values()) distinct.add(t.trim().toLowerCase())
+    for (let r = 0; r < table.rows && distinct.size <= 2; r++) if (!Number.isNaN(col.values[r]!)) distinct.add(String(col.values[r]))
     if (distinct.size <= 2 && [...distinct].every(v => toYesNo(v) !== null)) return { name, type: 'yesno' }
+    const numbers = table.rows - col.missing - col.text.size
+    const firstText = col.text.values().next().value ?? ''
+    if (numbers >= col.text.size || /^[-+]?\d+[.,]\d+$/.test(firstText.trim())) throw notDecimal(table, col, decimal)
     throw new UsageError(`column '${name}' holds text; list it in --categorical to use it as categories`)
   })
-  return { outcome: args.outcome, covariates, link: args.link, se, cluster, weights: args.weights ?? undefined, margins: args.margins }
+  if (args.weights) {
+    const col = byName.get(args.weights)!
+    if (col.text) throw notDecimal(table, col, decimal)
+  }
+  const used = new Set<string>([args.outcome, ...names, ...(args.weights ? [args.weights] : []), ...(cluster ? [cluster] : [])])
+  return { spec: { outcome: args.outcome, covariates, link: args.link, se, cluster, weights: args.weights ?? undefined, margins: args.margins }, used }
 }
 
 function fmt(x: number | null, digits = 4): string {
@@ -202,8 +206,15 @@ function report(res: ModelResults, file: string): string {
     out.push('')
   }
   out.push('How well the model fits')
-  out.push(`  log-likelihood ${fmt(f.loglik, 3)} (intercept only ${fmt(f.loglikNull, 3)}); LR χ² ${fmt(f.lrChi2, 2)} on ${f.lrDf} df, p ${pfmt(f.lrP)}`)
-  out.push(`  McFadden R² ${fmt(f.mcfaddenR2, 4)}; AIC ${fmt(f.aic, 2)}; BIC ${fmt(f.bic, 2)}; area under ROC ${fmt(res.roc.auc, 4)}`)
+  if (f.notAvailable) {
+    out.push(`  pseudo-log-likelihood ${fmt(f.loglik, 3)} (it scales with the weights); area under ROC ${fmt(res.roc.auc, 4)}`)
+    out.push(`  ${f.notAvailable}`)
+  }
+  else {
+    out.push(`  log-likelihood ${fmt(f.loglik, 3)} (intercept only ${fmt(f.loglikNull, 3)}); LR χ² ${fmt(f.lrChi2, 2)} on ${f.lrDf} df, p ${pfmt(f.lrP)}`)
+    out.push(`  McFadden R² ${fmt(f.mcfaddenR2, 4)}; AIC ${fmt(f.aic, 2)}; BIC ${fmt(f.bic, 2)}; area under ROC ${fmt(res.roc.auc, 4)}`)
+  }
+  if (f.wald) out.push(`  Wald test that all slopes are 0: ${f.wald.kind === 'F' ? `F ${fmt(f.wald.statistic, 2)} on (${f.wald.df}, ${f.wald.df2}) df` : `χ² ${fmt(f.wald.statistic, 2)} on ${f.wald.df} df`}, p ${pfmt(f.wald.p)}`)
   const c = res.classification
   out.push(`  at cut-off ${c.cutoff}: ${fmt(100 * c.shareCorrect, 1)}% classified correctly (sensitivity ${c.sensitivity === null ? '—' : fmt(100 * c.sensitivity, 1)}%, specificity ${c.specificity === null ? '—' : fmt(100 * c.specificity, 1)}%)`)
   if (res.hosmerLemeshow) out.push(`  Hosmer–Lemeshow over ${res.hosmerLemeshow.groups.length} groups: ${fmt(res.hosmerLemeshow.statistic, 2)} on ${res.hosmerLemeshow.df} df, p ${pfmt(res.hosmerLemeshow.p)}`)
@@ -217,37 +228,49 @@ function report(res: ModelResults, file: string): string {
   return out.join('\n')
 }
 
-function main(): void {
+async function main(): Promise<void> {
   const args = parseArgs(process.argv.slice(2))
-  let text: string
+  const t0 = performance.now()
+  let table: CsvTable
   try {
-    text = readFileSync(args.file, 'utf8')
+    table = readCsvColumns(args.file, { separator: args.separator, decimal: args.decimal })
   }
-  catch {
-    throw new UsageError(`cannot read '${args.file}'`)
+  catch (e) {
+    if (e instanceof CsvError) throw new UsageError(e.message)
+    throw e
   }
-  const { header, rows } = parseCsv(text)
-  const columns: Record<string, Array<string | number | null>> = {}
-  header.forEach((h, j) => {
-    columns[h] = rows.map((r) => {
-      const s = r[j]!
-      if (isMissingText(s)) return null
-      const x = Number(s)
-      return s.trim() !== '' && Number.isFinite(x) ? x : s.trim()
+  const readMs = performance.now() - t0
+  const { spec, used } = buildSpec(args, table)
+  // Large files: the row passes on every core (threads over shared memory, see server/workers/pass-pool.ts).
+  const helpers = table.rows >= PARALLEL_MIN_ROWS ? await startPassHelpers(new URL(import.meta.url)) : null
+  let results: ModelResults
+  try {
+    results = runModel(engineColumns(table, used), spec, {
+      parallel: (design, link) => (helpers && design.n >= PARALLEL_MIN_ROWS ? helpers.attach(design, link) : null)
     })
-  })
-  const spec = buildSpec(args, header, columns)
-  const results = runModel(columns, spec)
-  process.stdout.write(args.json ? `${JSON.stringify(results, null, 2)}\n` : `${report(results, args.file)}\n`)
+  }
+  finally {
+    void helpers?.close()
+  }
+  if (args.json) process.stdout.write(`${JSON.stringify({ ...results, timings: { ...results.timings, readMs } }, null, 2)}\n`)
+  else {
+    const sep = table.separator === ',' ? '' : ` (columns separated by ${separatorLabel(table.separator)})`
+    process.stdout.write(`${report(results, `${args.file}${sep}`)}\n`)
+  }
 }
 
-try {
-  main()
-}
-catch (e) {
-  if (e instanceof UsageError || e instanceof EngineInputError) {
-    process.stderr.write(`fit: ${e.message}\n`)
-    process.exit(2)
+// Helper threads of the pass pool load this same file: only the main thread runs the command.
+async function cli(): Promise<void> {
+  try {
+    await main()
   }
-  throw e
+  catch (e) {
+    if (e instanceof UsageError || e instanceof EngineInputError || e instanceof CsvError) {
+      process.stderr.write(`fit: ${e.message}\n`)
+      process.exit(2)
+    }
+    throw e
+  }
 }
+
+if (isMainThread) void cli()

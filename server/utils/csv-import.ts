@@ -195,6 +195,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
         }
       })
       for (let i = 0; i < visits.length; i += 1000) await Visit.bulkCreate(visits.slice(i, i + 1000), { transaction })
+      await bumpDataVersion(roundId, transaction)
       const clashing = earlier.filter(v => inFile.has(v.farmCode.toLowerCase())).map(v => v.id)
       if (clashing.length) {
         await database().query('UPDATE visits SET flags = JSON_SET(flags, \'$.duplicateFarmCode\', true) WHERE id IN (?)', { replacements: [clashing], transaction, type: QueryTypes.UPDATE })

@@ -10,6 +10,8 @@ export interface FitRunnerOptions {
   timeoutMs?: number
   /** At most this many fits at once per app server; more wait their turn. */
   concurrency?: number
+  /** Buffers of `data` to move to the worker instead of copying (they are unusable here afterwards). */
+  transfer?: ArrayBuffer[]
 }
 
 const waiting: Array<() => void> = []
@@ -55,7 +57,7 @@ export async function runFitInWorker(data: DataInput, spec: ModelSpec, options: 
         clearTimeout(timer)
         reject(new Error(`the fit worker stopped early (exit code ${code})`))
       })
-      worker.postMessage({ data, spec })
+      worker.postMessage({ data, spec }, options.transfer ?? [])
     })
   }
   finally {

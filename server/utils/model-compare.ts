@@ -29,7 +29,11 @@ export function compareRuns(runs: ModelRun[]) {
       const nested = [...ts].every(t => tl.has(t)) && ts.size < tl.size
       if (!nested) continue
       if (small.results!.link !== big.results!.link) {
-        notComparable.push(`Runs ${small.id} and ${big.id} use different links; compare them by AIC/BIC instead.`)
+        notComparable.push(`Runs ${small.id} and ${big.id} use different links; compare them by AIC/BIC instead${small.results!.weights || big.results!.weights ? ' (not available with sampling weights)' : ''}.`)
+        continue
+      }
+      if (small.results!.weights || big.results!.weights) {
+        notComparable.push(`Runs ${small.id} and ${big.id} use sampling weights: a likelihood-ratio test is not valid then; read each run's Wald test.`)
         continue
       }
       if (small.usedRowsHash !== big.usedRowsHash) {

@@ -1,68 +1,215 @@
 import { createHash } from 'node:crypto'
-import { Op } from 'sequelize'
+import { QueryTypes } from 'sequelize'
 import type { ModelQuestion } from '#shared/utils/modelling/questions'
 import { VILLAGE_COLUMN } from '#shared/utils/modelling/spec-builder'
-import type { DataColumns, ModelSpec } from '#shared/utils/stats'
+import type { CodedColumn, DataColumns, ModelSpec } from '#shared/utils/stats'
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
-import { QuestionnaireVersion, Round, Village, Visit } from '../db/models'
+import { database } from '../db/connection'
+import { QuestionnaireVersion, Round, Village } from '../db/models'
 import type { ExcludedVisits } from '../db/models/model-run'
 
-export interface RoundModelData {
+/** A round of this organisation with its current questions and village names: no visits read. */
+export interface RoundContext {
   round: Round
   questions: ModelQuestion[]
-  rows: AcceptedVisitRow[]
-  rowsHash: string
-  questionnaireVersionIds: number[]
-  excluded: ExcludedVisits
   villageNames: Record<string, string>
 }
 
-const isMissing = (v: unknown) => v === null || v === undefined || v === '' || v === 'NA'
-
-function hashRows(rows: readonly AcceptedVisitRow[]): string {
-  const hash = createHash('sha256')
-  for (const r of rows) hash.update(`${r.visitId}|${r.villageCode}|${r.adopted}|${JSON.stringify(r.answers)}\n`)
-  return hash.digest('hex')
+/** What one streaming read of a round's accepted visits gives the fit. */
+export interface RoundColumns {
+  columns: DataColumns
+  /** Buffers of `columns` to move (not copy) to the worker thread. */
+  transfer: ArrayBuffer[]
+  rowCount: number
+  rowsHash: string
+  usedRowsHash: string
+  questionnaireVersionIds: number[]
+  dataVersion: number
+  excluded: ExcludedVisits
 }
 
-/** The round (of this organisation), its questions and its accepted visits; 404 for another organisation's round. */
-export async function modelDataForRound(roundId: number, organisationId: number): Promise<RoundModelData> {
+/** The round (404 for another organisation's), its current questions and its villages' names. */
+export async function roundContext(roundId: number, organisationId: number): Promise<RoundContext> {
   const round = await Round.findOne({ where: { id: roundId, organisationId } })
   if (!round) throw createError({ statusCode: 404, message: 'No such survey round.' })
   const version = round.currentVersionId ? await QuestionnaireVersion.findByPk(round.currentVersionId) : null
-  const questions = (version?.definition.questions ?? []) as ModelQuestion[]
-  const rows = await acceptedVisitsForRound(roundId, organisationId)
-  const notAcceptedRows = await Visit.findAll({
-    where: { roundId, organisationId, reviewState: { [Op.ne]: 'accepted' } },
-    attributes: ['reviewState']
-  })
-  const notAccepted: Record<string, number> = {}
-  for (const v of notAcceptedRows) notAccepted[v.reviewState] = (notAccepted[v.reviewState] ?? 0) + 1
   const villages = await Village.findAll({ where: { organisationId }, attributes: ['code', 'name'] })
   return {
     round,
-    questions,
-    rows,
-    rowsHash: hashRows(rows),
-    questionnaireVersionIds: [...new Set(rows.map(r => r.questionnaireVersion))].sort((a, b) => a - b),
-    excluded: { notAccepted },
+    questions: (version?.definition.questions ?? []) as ModelQuestion[],
     villageNames: Object.fromEntries(villages.map(v => [v.code, v.name]))
   }
 }
 
-/** Column-oriented data for the engine: the outcome, the village and every answer the specification uses. */
-export function columnsFor(spec: ModelSpec, rows: readonly AcceptedVisitRow[]): DataColumns {
-  const columns: Record<string, unknown[]> = {
-    [OUTCOME_KEY]: rows.map(r => r.adopted),
-    [VILLAGE_COLUMN]: rows.map(r => r.villageCode)
+/** Accepted visits of the round (an index count) and the others by review state. */
+export async function visitCounts(roundId: number, organisationId: number): Promise<{ accepted: number, excluded: ExcludedVisits }> {
+  const rows = await database().query<{ state: string, n: number | bigint }>(
+    'SELECT review_state AS state, COUNT(*) AS n FROM visits WHERE round_id = ? AND organisation_id = ? GROUP BY review_state',
+    { replacements: [roundId, organisationId], type: QueryTypes.SELECT })
+  const notAccepted: Record<string, number> = {}
+  let accepted = 0
+  for (const r of rows) {
+    if (r.state === 'accepted') accepted = Number(r.n)
+    else notAccepted[r.state] = Number(r.n)
   }
-  const keys = new Set([...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])])
-  for (const key of keys) columns[key] = rows.map(r => ownValue(r.answers, key) ?? null)
-  return columns
+  return { accepted, excluded: { notAccepted } }
 }
 
-/** Hash of the rows a specification keeps after listwise deletion, by the engine's own rule for "missing". */
-export function usedRowsHash(spec: ModelSpec, rows: readonly AcceptedVisitRow[]): string {
-  const keys = [...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])]
-  return hashRows(rows.filter(r => keys.every(k => !isMissing(ownValue(r.answers, k)))))
+/** Whether the round has at least one accepted visit (one index probe). */
+export async function hasAcceptedVisits(roundId: number): Promise<boolean> {
+  const rows = await database().query('SELECT 1 FROM visits WHERE round_id = ? AND review_state = \'accepted\' LIMIT 1', { replacements: [roundId], type: QueryTypes.SELECT })
+  return rows.length > 0
+}
+
+const isMissingText = (v: string | null): boolean => v === null || v === '' || v === 'NA'
+
+class CodedBuilder {
+  codes: Int32Array
+  levels: string[] = []
+  private index = new Map<string, number>()
+  constructor(capacity: number) {
+    this.codes = new Int32Array(capacity)
+  }
+
+  code(v: string | null): number {
+    if (v === null) return -1
+    let c = this.index.get(v)
+    if (c === undefined) {
+      c = this.levels.length
+      this.levels.push(v)
+      this.index.set(v, c)
+    }
+    return c
+  }
+}
+
+interface RawConnection {
+  query: (sql: string, values?: unknown[]) => Promise<unknown>
+  queryStream: (options: { sql: string, rowsAsArray: boolean }, values?: unknown[]) => AsyncIterable<unknown[]>
+}
+
+interface PoolManager {
+  getConnection: (options: { type: 'read' | 'write' }) => Promise<RawConnection>
+  releaseConnection: (connection: RawConnection) => Promise<void>
+}
+
+/**
+ * Reads the round's accepted visits for one specification in ONE streaming query that extracts only the answers
+ * the model uses (JSON_VALUE per key), straight into typed columns: no model instances and no object per visit is
+ * kept. The row hash is computed while streaming. The read runs in a consistent snapshot together with the round's
+ * data version, so the version stored with the run belongs to exactly these rows.
+ */
+export async function loadRoundColumns(roundId: number, organisationId: number, spec: ModelSpec): Promise<RoundColumns> {
+  const keys = [...new Set([...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])])]
+  const numeric = keys.map(k => k === spec.weights || (spec.covariates.find(c => c.name === k)?.type ?? 'numeric') === 'numeric')
+  const manager = database().connectionManager as unknown as PoolManager
+  const conn = await manager.getConnection({ type: 'read' })
+  let adopted = new Float64Array(0)
+  let village = new CodedBuilder(0)
+  let nums: Array<Float64Array | null> = []
+  let texts: Array<CodedBuilder | null> = []
+  const missingRows = keys.map(() => [] as number[])
+  const excluded: ExcludedVisits = { notAccepted: {} }
+  const versions = new Set<number>()
+  const hash = createHash('sha256')
+  const usedHash = createHash('sha256')
+  let dataVersion = 0
+  let n = 0
+  try {
+    await conn.query('START TRANSACTION WITH CONSISTENT SNAPSHOT, READ ONLY')
+    const rounds = await conn.query('SELECT data_version FROM rounds WHERE id = ?', [roundId]) as Array<{ data_version: number }>
+    dataVersion = Number(rounds[0]?.data_version ?? 0)
+    // Counted in the same snapshot as the rows, so the columns can be sized exactly.
+    const counts = await conn.query('SELECT review_state AS state, COUNT(*) AS n FROM visits WHERE round_id = ? AND organisation_id = ? GROUP BY review_state', [roundId, organisationId]) as Array<{ state: string, n: number | bigint }>
+    let accepted = 0
+    for (const c of counts) {
+      if (c.state === 'accepted') accepted = Number(c.n)
+      else excluded.notAccepted[c.state] = Number(c.n)
+    }
+    const capacity = Math.max(1, accepted)
+    adopted = new Float64Array(capacity)
+    village = new CodedBuilder(capacity)
+    nums = keys.map((_, j) => (numeric[j] ? new Float64Array(capacity) : null))
+    texts = keys.map((_, j) => (numeric[j] ? null : new CodedBuilder(capacity)))
+    usedHash.update(`data version ${dataVersion}\n`)
+    const select = keys.map(() => 'JSON_VALUE(v.answers, ?)').join(', ')
+    const sql = `SELECT v.id, vi.code, v.adopted, v.questionnaire_version_id${select ? `, ${select}` : ''}
+      FROM visits v JOIN villages vi ON vi.id = v.village_id
+      WHERE v.round_id = ? AND v.organisation_id = ? AND v.review_state = 'accepted' ORDER BY v.id`
+    // Question keys are [a-z][a-z0-9_]*; the paths are bound as parameters all the same.
+    const params = [...keys.map(k => `$."${k}"`), roundId, organisationId]
+    let chunk = ''
+    let usedChunk = ''
+    for await (const row of conn.queryStream({ sql, rowsAsArray: true }, params)) {
+      if (n === adopted.length) throw new Error('more accepted visits than counted: the read is not a snapshot')
+      const id = row[0] as string
+      const code = row[1] as string
+      const y = Number(row[2])
+      versions.add(Number(row[3]))
+      adopted[n] = y
+      village.codes[n] = village.code(code)
+      let line = `${id}|${code}|${y}`
+      let used = true
+      for (let j = 0; j < keys.length; j++) {
+        const v = row[4 + j] as string | null
+        line += v === null ? '|\\N' : `|${v}`
+        if (isMissingText(v)) {
+          used = false
+          missingRows[j]!.push(n)
+        }
+        if (nums[j]) nums[j]![n] = v === null || isMissingText(v) ? Number.NaN : Number(v)
+        else texts[j]!.codes[n] = isMissingText(v) ? -1 : texts[j]!.code(v)
+      }
+      chunk += `${line}\n`
+      if (used) usedChunk += `${id}\n`
+      if (chunk.length > 1 << 16) {
+        hash.update(chunk)
+        chunk = ''
+        usedHash.update(usedChunk)
+        usedChunk = ''
+      }
+      n++
+    }
+    hash.update(chunk)
+    usedHash.update(usedChunk)
+    await conn.query('COMMIT')
+  }
+  catch (error) {
+    await conn.query('ROLLBACK').catch(() => {})
+    throw error
+  }
+  finally {
+    await manager.releaseConnection(conn)
+  }
+  const columns: Record<string, ArrayLike<unknown> | CodedColumn> = {
+    [OUTCOME_KEY]: adopted.subarray(0, n),
+    [VILLAGE_COLUMN]: { codes: village.codes.subarray(0, n), levels: village.levels }
+  }
+  const transfer = [adopted.buffer, village.codes.buffer] as ArrayBuffer[]
+  keys.forEach((key, j) => {
+    if (texts[j]) {
+      columns[key] = { codes: texts[j]!.codes.subarray(0, n), levels: texts[j]!.levels }
+      transfer.push(texts[j]!.codes.buffer as ArrayBuffer)
+    }
+    else if (missingRows[j]!.length === 0) {
+      columns[key] = nums[j]!.subarray(0, n)
+      transfer.push(nums[j]!.buffer as ArrayBuffer)
+    }
+    else {
+      // A numeric answer missing for some visits: a plain array, where null is "missing" to the engine.
+      const arr: Array<number | null> = Array.from(nums[j]!.subarray(0, n))
+      for (const r of missingRows[j]!) arr[r] = null
+      columns[key] = arr
+    }
+  })
+  return {
+    columns,
+    transfer,
+    rowCount: n,
+    rowsHash: hash.digest('hex'),
+    usedRowsHash: usedHash.digest('hex'),
+    questionnaireVersionIds: [...versions].sort((a, b) => a - b),
+    dataVersion,
+    excluded
+  }
 }

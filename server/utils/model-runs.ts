@@ -2,15 +2,15 @@ import type { H3Event } from 'h3'
 import { ModelRequestError, equationText, specFromRequest, type ModelRequest } from '#shared/utils/modelling'
 import { ENGINE_VERSION, buildDesign, type ModelSpec, type ScenarioSpec } from '#shared/utils/stats'
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
-import { ModelRun } from '../db/models'
+import { ModelRun, Round } from '../db/models'
 import type { SignedInUser } from './access'
 
 // A run still 'running' after this long was cut off (a server restart, say) and is reported as failed.
 const STALE_AFTER_MS = 10 * 60_000
 
-function specOrBadRequest(request: ModelRequest, data: RoundModelData): ModelSpec {
+function specOrBadRequest(request: ModelRequest, context: RoundContext): ModelSpec {
   try {
-    return specFromRequest(request, data.questions, OUTCOME_KEY)
+    return specFromRequest(request, context.questions, OUTCOME_KEY)
   }
   catch (error) {
     if (error instanceof ModelRequestError) throw createError({ statusCode: 400, message: `${error.field}: ${error.message}`, data: { fieldErrors: { [error.field]: error.message } } })
@@ -20,12 +20,13 @@ function specOrBadRequest(request: ModelRequest, data: RoundModelData): ModelSpe
 
 /** What a fit would use, before fitting: the equation, the visits used, and which are left out and why. */
 export async function previewModel(user: SignedInUser, request: ModelRequest) {
-  const data = await modelDataForRound(request.roundId, user.organisationId)
-  const spec = specOrBadRequest(request, data)
-  let rows = { totalRows: data.rows.length, used: 0, dropped: 0, byVariable: [] as Array<{ variable: string, label: string, count: number }> }
+  const context = await roundContext(request.roundId, user.organisationId)
+  const spec = specOrBadRequest(request, context)
+  const data = await loadRoundColumns(request.roundId, user.organisationId, spec)
+  let rows = { totalRows: data.rowCount, used: 0, dropped: 0, byVariable: [] as Array<{ variable: string, label: string, count: number }> }
   let problem: string | null = null
   try {
-    rows = buildDesign(columnsFor(spec, data.rows), spec).rows
+    rows = buildDesign(data.columns, spec).rows
   }
   catch (error) {
     problem = error instanceof Error ? error.message : String(error)
@@ -33,10 +34,20 @@ export async function previewModel(user: SignedInUser, request: ModelRequest) {
   return { equation: equationText(spec), rows, excluded: data.excluded, problem }
 }
 
-async function fitAndStore(run: ModelRun, spec: ModelSpec, data: RoundModelData) {
+/** Reads the rows (in the background: the request has been answered) and fits them in a worker thread. */
+async function fitAndStore(run: ModelRun, spec: ModelSpec) {
   const started = Date.now()
   try {
-    const reply = await runFitInWorker(columnsFor(spec, data.rows), spec)
+    const data = await loadRoundColumns(run.roundId, run.organisationId, spec)
+    await run.update({
+      rowsHash: data.rowsHash,
+      usedRowsHash: data.usedRowsHash,
+      rowCount: data.rowCount,
+      questionnaireVersionIds: data.questionnaireVersionIds,
+      excluded: data.excluded,
+      dataVersion: data.dataVersion
+    })
+    const reply = await runFitInWorker(data.columns, spec, { transfer: data.transfer })
     if (reply.ok) await run.update({ status: 'done', results: reply.results, durationMs: Date.now() - started, finishedAt: new Date() })
     else await run.update({ status: 'failed', error: { code: reply.error.code, message: reply.error.message }, durationMs: Date.now() - started, finishedAt: new Date() })
   }
@@ -46,24 +57,25 @@ async function fitAndStore(run: ModelRun, spec: ModelSpec, data: RoundModelData)
 }
 
 /**
- * Stores the run and starts the fit in a worker thread; answers at once so the coordinator can keep working.
+ * Stores the run and starts reading its rows and fitting them in the background; answers at once (no visit is
+ * read before answering), so the coordinator can keep working whatever the size of the round.
  * `wait` lets the caller (a re-run, a test) await the result instead.
  */
 export async function startModelRun(event: H3Event, user: SignedInUser, request: ModelRequest, options: { wait?: boolean } = {}) {
-  const data = await modelDataForRound(request.roundId, user.organisationId)
-  const spec = specOrBadRequest(request, data)
-  if (data.rows.length === 0) throw createError({ statusCode: 422, message: 'This round has no accepted visits yet: accept visits in Review before fitting a model.' })
+  const context = await roundContext(request.roundId, user.organisationId)
+  const spec = specOrBadRequest(request, context)
+  if (!await hasAcceptedVisits(request.roundId)) throw createError({ statusCode: 422, message: 'This round has no accepted visits yet: accept visits in Review before fitting a model.' })
   const run = await ModelRun.create({
     organisationId: user.organisationId,
     roundId: request.roundId,
     createdBy: user.id,
     request,
     spec,
-    questionnaireVersionIds: data.questionnaireVersionIds,
-    rowsHash: data.rowsHash,
-    usedRowsHash: usedRowsHash(spec, data.rows),
-    rowCount: data.rows.length,
-    excluded: data.excluded,
+    questionnaireVersionIds: null,
+    rowsHash: null,
+    usedRowsHash: null,
+    rowCount: null,
+    excluded: null,
     engineVersion: ENGINE_VERSION,
     results: null,
     error: null,
@@ -71,7 +83,7 @@ export async function startModelRun(event: H3Event, user: SignedInUser, request:
     finishedAt: null
   })
   await audit(event, user, { action: 'model.fit', entityType: 'model_run', entityId: run.id, details: { roundId: request.roundId, link: spec.link } })
-  const fitting = fitAndStore(run, spec, data)
+  const fitting = fitAndStore(run, spec)
   if (options.wait) await fitting
   return run
 }
@@ -83,6 +95,16 @@ export async function findModelRun(id: number, organisationId: number): Promise<
     await run.update({ status: 'failed', error: { code: 'interrupted', message: 'The fit was interrupted (the server stopped); run it again.' }, finishedAt: new Date() })
   }
   return run
+}
+
+/**
+ * Whether the round's accepted visits changed since the run read them: one primary-key read of the round's
+ * counter. A finished run from before the counter existed has no version and is reported as possibly changed.
+ */
+export async function runDataChanged(run: ModelRun): Promise<boolean> {
+  if (run.status !== 'done') return false
+  const round = await Round.findByPk(run.roundId, { attributes: ['id', 'dataVersion'] })
+  return run.dataVersion === null || run.dataVersion === undefined || round?.dataVersion !== run.dataVersion
 }
 
 export function runSummary(run: ModelRun) {
@@ -107,12 +129,12 @@ export function runSummary(run: ModelRun) {
 /** Fits the stored specification again with extra scenarios, on the same rows; refuses if the data changed. */
 export async function runScenarios(user: SignedInUser, run: ModelRun, scenarios: ScenarioSpec[]) {
   if (run.status !== 'done' || !run.results) throw createError({ statusCode: 409, message: 'This run has no results to build scenarios on.' })
-  const data = await modelDataForRound(run.roundId, user.organisationId)
-  if (data.rowsHash !== run.rowsHash) {
+  const spec: ModelSpec = { ...run.spec, scenarios }
+  const data = await loadRoundColumns(run.roundId, user.organisationId, spec)
+  if (data.dataVersion !== run.dataVersion || data.rowsHash !== run.rowsHash) {
     throw createError({ statusCode: 409, message: 'The accepted visits have changed since this run; fit the model again before adding scenarios.' })
   }
-  const spec: ModelSpec = { ...run.spec, scenarios }
-  const reply = await runFitInWorker(columnsFor(spec, data.rows), spec)
+  const reply = await runFitInWorker(data.columns, spec, { transfer: data.transfer })
   if (!reply.ok) throw createError({ statusCode: 400, message: reply.error.message })
   const kept = run.results.scenarios.filter(s => !scenarios.some(n => n.name === s.name))
   await run.update({ results: { ...run.results, scenarios: [...kept, ...reply.results.scenarios] } })

@@ -74,6 +74,8 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
     const visit = await Visit.findOne({ where: { id, organisationId: user.organisationId }, transaction, lock: transaction.LOCK.UPDATE })
     if (!visit) throw createError({ statusCode: 404, message: 'No such visit.' })
     const base = { action: `visit.${action.action}`, entityType: 'visit', entityId: id }
+    // Every review action can change the set or the content of accepted visits: models see it as a new data version.
+    await bumpDataVersion(visit.roundId, transaction)
     if (action.action === 'accept') {
       await visit.update({ reviewState: 'accepted', reviewReason: null, version: visit.version + 1 }, { transaction })
       await audit(event, user, base, transaction)

@@ -8,7 +8,8 @@ export interface ModelRunSummary {
   link: string
   se: string
   equation: string
-  rowCount: number
+  /** Null until the fit has read its rows. */
+  rowCount: number | null
   used: number | null
   loglik: number | null
   aic: number | null
@@ -21,11 +22,11 @@ export interface ModelRunSummary {
 export interface ModelRunDetail extends ModelRunSummary {
   request: ModelRequest
   spec: ModelSpec
-  rowsHash: string
+  rowsHash: string | null
   dataChanged: boolean
   engineVersion: string
-  questionnaireVersionIds: number[]
-  excluded: { notAccepted: Record<string, number> }
+  questionnaireVersionIds: number[] | null
+  excluded: { notAccepted: Record<string, number> } | null
   results: ModelResults | null
   error: { code: string, message: string } | null
   villageNames: Record<string, string>

@@ -22,12 +22,16 @@ export class ModelRun extends Model<InferAttributes<ModelRun>, InferCreationAttr
   declare status: CreationOptional<ModelRunState>
   declare request: ModelRequest
   declare spec: ModelSpec
-  declare questionnaireVersionIds: number[]
-  declare rowsHash: string
-  /** Hash of the rows the fit actually used (after listwise deletion): equal hashes mean the same rows. */
-  declare usedRowsHash: string
-  declare rowCount: number
-  declare excluded: ExcludedVisits
+  /** The next four are null until the fit has read its rows (a run answers before reading them). */
+  declare questionnaireVersionIds: number[] | null
+  /** Hash of the accepted visits as the fit read them (ids, villages, outcome and the answers the model uses). */
+  declare rowsHash: string | null
+  /** Hash of the ids of the rows the fit used (after listwise deletion) and the round's data version: equal hashes mean the same rows. */
+  declare usedRowsHash: string | null
+  declare rowCount: number | null
+  declare excluded: ExcludedVisits | null
+  /** The round's `dataVersion` when the fit read its rows; another value now means the data changed. */
+  declare dataVersion: CreationOptional<number | null>
   declare engineVersion: string
   declare results: ModelResults | null
   declare error: { code: string, message: string } | null
@@ -44,11 +48,12 @@ export class ModelRun extends Model<InferAttributes<ModelRun>, InferCreationAttr
       status: { type: DataTypes.ENUM(...MODEL_RUN_STATES), allowNull: false, defaultValue: 'running' },
       request: { type: DataTypes.JSON, allowNull: false },
       spec: { type: DataTypes.JSON, allowNull: false },
-      questionnaireVersionIds: { type: DataTypes.JSON, allowNull: false },
-      rowsHash: { type: DataTypes.CHAR(64), allowNull: false },
-      usedRowsHash: { type: DataTypes.CHAR(64), allowNull: false },
-      rowCount: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      excluded: { type: DataTypes.JSON, allowNull: false },
+      questionnaireVersionIds: { type: DataTypes.JSON, allowNull: true },
+      rowsHash: { type: DataTypes.CHAR(64), allowNull: true },
+      usedRowsHash: { type: DataTypes.CHAR(64), allowNull: true },
+      rowCount: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+      excluded: { type: DataTypes.JSON, allowNull: true },
+      dataVersion: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       engineVersion: { type: DataTypes.STRING(20), allowNull: false },
       results: { type: DataTypes.JSON, allowNull: true },
       error: { type: DataTypes.JSON, allowNull: true },

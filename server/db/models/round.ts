@@ -12,6 +12,8 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
   declare season: string
   declare status: CreationOptional<RoundStatus>
   declare currentVersionId: number | null
+  /** Goes up by one in the same transaction as every change to the round's accepted visits (see `bumpDataVersion`). */
+  declare dataVersion: CreationOptional<number>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -24,6 +26,7 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
       season: { type: DataTypes.STRING(60), allowNull: false },
       status: { type: DataTypes.ENUM(...ROUND_STATUSES), allowNull: false, defaultValue: 'draft' },
       currentVersionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+      dataVersion: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'rounds' })

@@ -34,11 +34,50 @@ export function classificationTable(p: Float64Array, y: Float64Array, w: Float64
   }
 }
 
-function orderByPrediction(p: Float64Array, descending: boolean): Uint32Array {
-  const idx = new Uint32Array(p.length)
-  for (let i = 0; i < idx.length; i++) idx[i] = i
-  // Ties broken by row index so that the order (and the HL groups) is deterministic.
-  idx.sort((a, b) => (descending ? p[b]! - p[a]! : p[a]! - p[b]!) || a - b)
+/**
+ * Row indices in ascending order of p̂, ties in row order (deterministic HL groups). An LSD radix sort on
+ * the IEEE-754 bits (for p̂ ≥ 0 they order as the numbers do), 16 bits per pass: a comparator sort of a
+ * million rows cost about a second, this costs a few tens of milliseconds. Stable, so ties keep row order.
+ */
+export function ascendingOrder(p: Float64Array): Uint32Array {
+  const n = p.length
+  const bits = new Uint32Array(p.buffer, p.byteOffset, n * 2)
+  let idx = new Uint32Array(n)
+  let lo = new Uint32Array(n)
+  let hi = new Uint32Array(n)
+  for (let i = 0; i < n; i++) {
+    idx[i] = i
+    lo[i] = bits[2 * i]!
+    hi[i] = bits[2 * i + 1]!
+  }
+  // Little-endian words: bits[2i] is the low word. (All engines this runs on are little-endian.)
+  let idx2 = new Uint32Array(n)
+  let lo2 = new Uint32Array(n)
+  let hi2 = new Uint32Array(n)
+  const count = new Uint32Array(65536)
+  for (let pass = 0; pass < 4; pass++) {
+    const useHi = pass >= 2
+    const shift = pass % 2 === 0 ? 0 : 16
+    const key = useHi ? hi : lo
+    count.fill(0)
+    for (let i = 0; i < n; i++) count[(key[i]! >>> shift) & 0xFFFF]!++
+    let sum = 0
+    for (let d = 0; d < 65536; d++) {
+      const c = count[d]!
+      count[d] = sum
+      sum += c
+    }
+    for (let i = 0; i < n; i++) {
+      const d = (key[i]! >>> shift) & 0xFFFF
+      const at = count[d]!++
+      idx2[at] = idx[i]!
+      lo2[at] = lo[i]!
+      hi2[at] = hi[i]!
+    }
+    ;[idx, idx2] = [idx2, idx]
+    ;[lo, lo2] = [lo2, lo]
+    ;[hi, hi2] = [hi2, hi]
+  }
   return idx
 }
 
@@ -47,8 +86,9 @@ function orderByPrediction(p: Float64Array, descending: boolean): Uint32Array {
  * under it by the trapezoid rule, which equals the Mann–Whitney probability
  * P(p̂₁ > p̂₀) + ½ P(p̂₁ = p̂₀). At most `maxPoints` evenly spaced points are returned.
  */
-export function rocCurve(p: Float64Array, y: Float64Array, w: Float64Array | null, maxPoints = 101): { auc: number, points: RocPoint[] } {
-  const idx = orderByPrediction(p, true)
+export function rocCurve(p: Float64Array, y: Float64Array, w: Float64Array | null, maxPoints = 101, ascending: Uint32Array = ascendingOrder(p)): { auc: number, points: RocPoint[] } {
+  // Descending thresholds: the ascending order read from its end (ties are taken together, so their order is immaterial).
+  const idx = ascending.slice().reverse()
   let P = 0
   let Nn = 0
   for (let i = 0; i < p.length; i++) {
@@ -56,11 +96,20 @@ export function rocCurve(p: Float64Array, y: Float64Array, w: Float64Array | nul
     if (y[i] === 1) P += wi
     else Nn += wi
   }
-  const all: RocPoint[] = [{ threshold: Infinity, falsePositiveRate: 0, truePositiveRate: 0 }]
+  // Distinct thresholds D: the curve has D + 1 points; only the (at most maxPoints) evenly spaced ones
+  // returned are kept, so a million rows make no million point objects.
+  let distinct = 0
+  for (let r = 0; r < idx.length; r++) if (r === 0 || p[idx[r]!] !== p[idx[r - 1]!]) distinct++
+  const total = distinct + 1
+  const wanted = new Set<number>()
+  if (total > maxPoints) for (let j = 0; j < maxPoints; j++) wanted.add(Math.round((j * (total - 1)) / (maxPoints - 1)))
+  const keep = (at: number): boolean => total <= maxPoints || wanted.has(at)
+  let points: RocPoint[] = [{ threshold: Infinity, falsePositiveRate: 0, truePositiveRate: 0 }]
   let tp = 0
   let fp = 0
   let auc = 0
   let i = 0
+  let at = 0
   while (i < idx.length) {
     const thr = p[idx[i]!]!
     const tp0 = tp
@@ -73,14 +122,10 @@ export function rocCurve(p: Float64Array, y: Float64Array, w: Float64Array | nul
       i++
     }
     auc += (fp - fp0) * (tp + tp0) / 2
-    all.push({ threshold: thr, falsePositiveRate: fp / Nn, truePositiveRate: tp / P })
+    at++
+    if (keep(at)) points.push({ threshold: thr, falsePositiveRate: fp / Nn, truePositiveRate: tp / P })
   }
   auc /= P * Nn
-  let points = all
-  if (all.length > maxPoints) {
-    points = []
-    for (let j = 0; j < maxPoints; j++) points.push(all[Math.round((j * (all.length - 1)) / (maxPoints - 1))]!)
-  }
   // Infinity is not JSON: the first point's threshold is stated as 1 (nothing predicted 1 above it).
   points = points.map(pt => (Number.isFinite(pt.threshold) ? pt : { ...pt, threshold: 1 }))
   return { auc, points }
@@ -91,10 +136,10 @@ export function rocCurve(p: Float64Array, y: Float64Array, w: Float64Array | nul
  * counts; C = Σ_g (O_g − E_g)² / (E_g (1 − E_g/n_g)) with O, E observed and expected
  * ones and n_g the group size (weighted sums when weighted); C ~ χ²(g − 2).
  */
-export function hosmerLemeshow(p: Float64Array, y: Float64Array, w: Float64Array | null, groups = 10): HosmerLemeshow {
+export function hosmerLemeshow(p: Float64Array, y: Float64Array, w: Float64Array | null, groups = 10, ascending: Uint32Array = ascendingOrder(p)): HosmerLemeshow {
   const n = p.length
   const g = Math.max(3, Math.min(groups, n))
-  const idx = orderByPrediction(p, false)
+  const idx = ascending
   const out: HosmerLemeshowGroup[] = []
   let stat = 0
   for (let q = 0; q < g; q++) {

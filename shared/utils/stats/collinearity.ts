@@ -8,14 +8,25 @@
  * parent was dropped (the square or an interaction of a dropped main column, or an
  * interaction of a dropped dummy) is dropped with it.
  *
- * Test: with the correlation-scaled cross-product matrix C = D^{-1/2} X'X D^{-1/2}
- * (uncentred; the intercept is a column), column j is collinear when
- * 1 − c_j' C_kept^{-1} c_j < 1e-10, i.e. it has R² > 1 − 1e-10 on the kept columns.
+ * Test (scale- and shift-invariant): column 0 is the intercept; every other column is centred
+ * (about its mean) and scaled, i.e. the test works on the correlation matrix R of the
+ * non-intercept columns. Column j is
+ *   - zero when every value is 0;
+ *   - constant (a multiple of the intercept) when its standard deviation is below 1e-10 of its
+ *     root mean square, i.e. it does not vary at the precision of a double;
+ *   - collinear when 1 − r_j' R_kept^{-1} r_j < 1e-10, i.e. it has R² > 1 − 1e-10 on the kept
+ *     columns and the intercept.
+ * Centring matters: an uncentred test calls any column whose spread is small beside its level
+ * (a date coded yyyymmdd within one month, 1e5 + N(0,1)) a copy of the intercept. The centred
+ * cross-products come from one pass over data shifted by the first row (the shifted-data
+ * algorithm), so no precision is lost to the level of a column either.
  */
 import type { Design } from './design'
 import type { EngineWarning } from './errors'
 
 const TOL = 1e-10
+/** A column is constant when Σ(x − x̄)² ≤ 1e-20 Σ x², i.e. its standard deviation is below 1e-10 of its root mean square. */
+const CONSTANT_TOL = 1e-20
 
 function parentsOf(design: Design): number[][] {
   const k = design.k
@@ -38,24 +49,44 @@ function parentsOf(design: Design): number[][] {
 /** Returns the design with collinear columns removed (X compacted in place) and warnings added. */
 export function dropCollinearColumns(design: Design): Design {
   const { n, k, X } = design
-  const G = new Float64Array(k * k)
+  // Shifted sums: S = Σ (x − s)(x − s)', T = Σ (x − s), U_j = Σ x_j², s = the first row.
+  const first = X.slice(0, k)
+  const S = new Float64Array(k * k)
+  const T = new Float64Array(k)
+  const U = new Float64Array(k)
+  const d = new Float64Array(k)
   for (let r = 0; r < n; r++) {
     const off = r * k
-    for (let j = 0; j < k; j++) {
-      const xj = X[off + j]!
-      if (xj === 0) continue
+    for (let j = 1; j < k; j++) {
+      const x = X[off + j]!
+      U[j]! += x * x
+      const dj = x - first[j]!
+      d[j] = dj
+      T[j]! += dj
+      if (dj === 0) continue
       const base = j * k
-      for (let m = 0; m <= j; m++) G[base + m]! += xj * X[off + m]!
+      for (let m = 1; m <= j; m++) S[base + m]! += dj * d[m]!
+    }
+  }
+  // Centred cross-products C and means.
+  const C = new Float64Array(k * k)
+  const mean = new Float64Array(k)
+  for (let j = 1; j < k; j++) {
+    mean[j] = first[j]! + T[j]! / n
+    for (let m = 1; m <= j; m++) {
+      C[j * k + m] = S[j * k + m]! - (T[j]! * T[m]!) / n
+      C[m * k + j] = C[j * k + m]!
     }
   }
   const terms = design.plan.terms
   const parents = parentsOf(design)
-  const kept: number[] = []
+  const kept: number[] = [0]
+  const keptVarying: number[] = []
   const dropped = new Set<number>()
-  // L: Cholesky factor of C restricted to the kept columns, grown one row at a time.
+  // L: Cholesky factor of the correlation matrix of the kept non-intercept columns, grown one row at a time.
   const L: number[][] = []
   const warnings: EngineWarning[] = []
-  for (let j = 0; j < k; j++) {
+  for (let j = 1; j < k; j++) {
     const deadParent = parents[j]!.find(p => dropped.has(p))
     if (deadParent !== undefined) {
       dropped.add(j)
@@ -66,8 +97,7 @@ export function dropCollinearColumns(design: Design): Design {
       })
       continue
     }
-    const gjj = G[j * k + j]!
-    if (gjj === 0) {
+    if (U[j] === 0) {
       dropped.add(j)
       const isDummy = terms[j]!.kind === 'dummy'
       warnings.push({
@@ -79,12 +109,21 @@ export function dropCollinearColumns(design: Design): Design {
       })
       continue
     }
-    const m = kept.length
+    const cjj = C[j * k + j]!
+    if (!(cjj > CONSTANT_TOL * U[j]!)) {
+      dropped.add(j)
+      warnings.push({
+        code: 'collinear_column_dropped',
+        message: `'${terms[j]!.label}' dropped: it has the same value in every row, so it is a multiple of '${terms[0]!.label}'`,
+        variables: [terms[j]!.name, terms[0]!.name]
+      })
+      continue
+    }
+    const m = keptVarying.length
     const z = new Float64Array(m)
     for (let a = 0; a < m; a++) {
-      const ka = kept[a]!
-      const g = j > ka ? G[j * k + ka]! : G[ka * k + j]!
-      let s = g / Math.sqrt(gjj * G[ka * k + ka]!)
+      const ka = keptVarying[a]!
+      let s = C[j * k + ka]! / Math.sqrt(cjj * C[ka * k + ka]!)
       for (let b = 0; b < a; b++) s -= L[a]![b]! * z[b]!
       z[a] = s / L[a]![a]!
     }
@@ -101,13 +140,23 @@ export function dropCollinearColumns(design: Design): Design {
       }
       let maxB = 0
       for (let a = 0; a < m; a++) maxB = Math.max(maxB, Math.abs(beta[a]!))
-      const involved = kept.filter((_, a) => Math.abs(beta[a]!) > 1e-6 * maxB)
+      // The intercept of x_j = c + Σ b_a x_a, on the original scale.
+      let c = mean[j]!
+      for (let a = 0; a < m; a++) {
+        const ka = keptVarying[a]!
+        c -= beta[a]! * Math.sqrt(cjj / C[ka * k + ka]!) * mean[ka]!
+      }
+      const withIntercept = Math.abs(c) > 1e-8 * Math.sqrt(U[j]! / n)
+      const involved = [
+        ...(withIntercept ? [0] : []),
+        ...keptVarying.filter((_, a) => Math.abs(beta[a]!) > 1e-6 * maxB)
+      ]
       dropped.add(j)
-      const names = involved.map(c => `'${terms[c]!.label}'`)
+      const names = involved.map(col => `'${terms[col]!.label}'`)
       warnings.push({
         code: 'collinear_column_dropped',
         message: `'${terms[j]!.label}' dropped: it is an exact linear combination of ${names.join(', ')} (the earlier column is kept)`,
-        variables: [terms[j]!.name, ...involved.map(c => terms[c]!.name)]
+        variables: [terms[j]!.name, ...involved.map(col => terms[col]!.name)]
       })
       continue
     }
@@ -115,8 +164,18 @@ export function dropCollinearColumns(design: Design): Design {
     row.push(Math.sqrt(resid))
     L.push(row)
     kept.push(j)
+    keptVarying.push(j)
   }
-  if (dropped.size === 0) return design
+  // Levels the fit subtracts: a column whose mean is over 100 sd from 0 makes the uncentred Hessian ill-conditioned.
+  let shiftFull: Float64Array | null = null
+  for (const j of keptVarying) {
+    const sd = Math.sqrt(C[j * k + j]! / n)
+    if (Math.abs(mean[j]!) > 100 * sd) {
+      shiftFull ??= new Float64Array(k)
+      shiftFull[j] = mean[j]!
+    }
+  }
+  if (dropped.size === 0) return { ...design, shift: shiftFull }
 
   const map = new Int32Array(k).fill(-1)
   kept.forEach((old, t) => {
@@ -138,5 +197,6 @@ export function dropCollinearColumns(design: Design): Design {
     const dst = r * kNew
     for (let t = 0; t < kNew; t++) X[dst + t] = X[src + kept[t]!]!
   }
-  return { ...design, k: kNew, X: X.subarray(0, n * kNew), warnings: [...design.warnings, ...warnings] }
+  const shift = shiftFull ? Float64Array.from(kept, j => shiftFull![j]!) : null
+  return { ...design, k: kNew, X: X.subarray(0, n * kNew), warnings: [...design.warnings, ...warnings], shift }
 }

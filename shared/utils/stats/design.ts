@@ -10,7 +10,7 @@
 import { dropCollinearColumns } from './collinearity'
 import { EngineInputError, type EngineWarning } from './errors'
 import type { CovariateSpec, CovariateType, DroppedRows, ModelSpec } from './types'
-import { accessData, isMissing, toLevel, toNumber, toYesNo, type DataAccessor, type DataInput } from './values'
+import { accessData, isCodedColumn, isMissing, toLevel, toNumber, toYesNo, type DataAccessor, type DataInput } from './values'
 
 export type TermKind = 'intercept' | 'main' | 'square' | 'dummy' | 'interaction'
 
@@ -82,6 +82,12 @@ export interface Design {
   plan: DesignPlan
   rows: DroppedRows
   warnings: EngineWarning[]
+  /**
+   * Per column, the level the fit subtracts before accumulating (0 for most columns; the mean
+   * where a column's mean is over 100 standard deviations from 0), or null when none is needed.
+   * Set by `dropCollinearColumns`; see `evaluateRangeShifted`.
+   */
+  shift?: Float64Array | null
 }
 
 function sqLabel(label: string): string {
@@ -302,6 +308,37 @@ function readOutcome(raw: unknown, name: string, row: number): 0 | 1 {
   return d
 }
 
+/** The column as a typed array of numbers, when the data is column-oriented and it is one. */
+function typedColumn(data: DataInput, name: string): Float64Array | Float32Array | Int32Array | null {
+  if (Array.isArray(data)) return null
+  const col = (data as Record<string, unknown>)[name]
+  return col instanceof Float64Array || col instanceof Float32Array || col instanceof Int32Array ? col : null
+}
+
+/** Writes one covariate's column(s) of X for all rows (the column-wise equivalent of `encodeValue` + `fillRow`). */
+function fillCovariate(X: Float64Array, k: number, n: number, rowIndex: Int32Array, c: CovariatePlan, typed: ArrayLike<number> | null, get: (i: number) => unknown): void {
+  if (c.type === 'numeric') {
+    const col = c.mainCol
+    const sq = c.squareCol
+    for (let r = 0, o = 0; r < n; r++, o += k) {
+      const i = rowIndex[r]!
+      const raw = typed ? typed[i]! : get(i)
+      const x = typeof raw === 'number' && Number.isFinite(raw) ? raw : toNumber(raw, c.name, i)
+      const v = c.transform ? transformValue(c, x, i) : x
+      X[o + col] = v
+      if (sq >= 0) X[o + sq] = v * v
+    }
+    return
+  }
+  const slot = new Float64Array(c.type === 'categorical' ? c.nonReferenceLevels.length : 1)
+  for (let r = 0, o = 0; r < n; r++, o += k) {
+    const i = rowIndex[r]!
+    encodeValue(c, typed ? typed[i]! : get(i), i, slot)
+    if (c.type === 'yesno') X[o + c.mainCol] = slot[0]!
+    else for (let l = 0; l < c.dummyCols.length; l++) X[o + c.dummyCols[l]!] = slot[l]!
+  }
+}
+
 /**
  * Builds the design for `spec` from row- or column-oriented data.
  * Throws `EngineInputError` for unknown variables, unreadable values, a non-binary or
@@ -329,22 +366,32 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
   ]
   if (spec.weights) vars.push({ name: spec.weights, label: spec.weights })
   if (spec.cluster) vars.push({ name: spec.cluster, label: spec.cluster })
-  const getters = vars.map(v => acc.column(v.name))
+  // Typed numeric columns hold no missing values (NaN is a non-finite value, refused later): skip them here.
+  const getters = vars.map(v => (typedColumn(data, v.name) ? null : acc.column(v.name)))
   const dropCounts = new Array<number>(vars.length).fill(0)
-  const keep = new Int32Array(N)
+  let rowIndex: Int32Array
   let n = 0
-  for (let i = 0; i < N; i++) {
-    let missingAt = -1
-    for (let v = 0; v < getters.length; v++) {
-      if (isMissing(getters[v]!(i))) {
-        missingAt = v
-        break
-      }
-    }
-    if (missingAt >= 0) dropCounts[missingAt]!++
-    else keep[n++] = i
+  if (getters.every(g => g === null)) {
+    rowIndex = new Int32Array(N)
+    for (let i = 0; i < N; i++) rowIndex[i] = i
+    n = N
   }
-  const rowIndex = keep.slice(0, n)
+  else {
+    const keep = new Int32Array(N)
+    for (let i = 0; i < N; i++) {
+      let missingAt = -1
+      for (let v = 0; v < getters.length; v++) {
+        const get = getters[v]
+        if (get && isMissing(get(i))) {
+          missingAt = v
+          break
+        }
+      }
+      if (missingAt >= 0) dropCounts[missingAt]!++
+      else keep[n++] = i
+    }
+    rowIndex = keep.slice(0, n)
+  }
   const rows: DroppedRows = {
     totalRows: N,
     used: n,
@@ -397,21 +444,39 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
     throw new EngineInputError('too_few_rows', `${n} usable rows for ${kFull} parameters: need more rows than parameters`)
   }
 
-  // Fill X, y, w, cluster.
+  // Fill X column by column (no per-row objects), then y, w, cluster. Same values as `fillRow` gives.
   const X = new Float64Array(n * kFull)
   const y = new Float64Array(n)
-  const profile = emptyProfile(plan)
-  const covGetters = covs.map(c => acc.column(c.name))
+  // Plain numeric covariates held in typed arrays are copied row by row in one sweep (X is written
+  // sequentially, once); the others column by column.
+  const plain = covs.filter(c => c.type === 'numeric' && !c.transform && !c.square && typedColumn(data, c.name))
+  const plainCols = Int32Array.from(plain, c => c.mainCol)
+  const plainData = plain.map(c => typedColumn(data, c.name)!)
+  for (let r = 0, o = 0; r < n; r++, o += kFull) {
+    X[o] = 1
+    const i = rowIndex[r]!
+    for (let q = 0; q < plainCols.length; q++) {
+      const x = plainData[q]![i]!
+      if (!Number.isFinite(x)) toNumber(x, plain[q]!.name, i)
+      X[o + plainCols[q]!] = x
+    }
+  }
+  for (const c of covs) if (!plain.includes(c)) fillCovariate(X, kFull, n, rowIndex, c, typedColumn(data, c.name), acc.column(c.name))
+  for (const it of plan.interactions) {
+    const ca = covs[it.a]!
+    const cb = covs[it.b]!
+    for (const ic of it.cols) {
+      const colA = ic.aLevel < 0 ? ca.mainCol : ca.dummyCols[ic.aLevel]!
+      const colB = ic.bLevel < 0 ? cb.mainCol : cb.dummyCols[ic.bLevel]!
+      for (let r = 0, o = 0; r < n; r++, o += kFull) X[o + ic.col] = X[o + colA]! * X[o + colB]!
+    }
+  }
   const outGet = acc.column(spec.outcome)
-  const rowBuf = new Float64Array(kFull)
   let ones = 0
   for (let r = 0; r < n; r++) {
     const i = rowIndex[r]!
     y[r] = readOutcome(outGet(i), spec.outcome, i)
     ones += y[r]!
-    for (let c = 0; c < covs.length; c++) encodeValue(covs[c]!, covGetters[c]!(i), i, profile[c]!)
-    fillRow(plan, profile, rowBuf)
-    X.set(rowBuf, r * kFull)
   }
   if (ones === 0 || ones === n) {
     throw new EngineInputError('outcome_constant', `outcome '${spec.outcome}' is ${ones === 0 ? 0 : 1} for all ${n} rows used: nothing to explain`, [spec.outcome])
@@ -429,13 +494,36 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
   let cluster: Int32Array | null = null
   let clusterLabels: string[] = []
   if (spec.cluster) {
-    const get = acc.column(spec.cluster)
-    const labels = new Array<string>(n)
-    for (let r = 0; r < n; r++) labels[r] = toLevel(get(rowIndex[r]!))
-    clusterLabels = [...new Set(labels)].sort((p, q) => (p < q ? -1 : p > q ? 1 : 0))
-    const idx = new Map(clusterLabels.map((l, g) => [l, g]))
+    const typed = typedColumn(data, spec.cluster)
     cluster = new Int32Array(n)
-    for (let r = 0; r < n; r++) cluster[r] = idx.get(labels[r]!)!
+    const coded = Array.isArray(data) ? null : (data as Record<string, unknown>)[spec.cluster]
+    if (isCodedColumn(coded)) {
+      // Coded text: labels from the levels the rows use, indices through a code → index table.
+      const used = new Uint8Array(coded.levels.length)
+      for (let r = 0; r < n; r++) used[coded.codes[rowIndex[r]!]!] = 1
+      clusterLabels = [...new Set(coded.levels.filter((_, c) => used[c]).map(l => toLevel(l)))].sort((p, q) => (p < q ? -1 : p > q ? 1 : 0))
+      const byLabel = new Map(clusterLabels.map((l, g) => [l, g]))
+      const table = Int32Array.from(coded.levels, l => byLabel.get(toLevel(l)) ?? -1)
+      for (let r = 0; r < n; r++) cluster[r] = table[coded.codes[rowIndex[r]!]!]!
+    }
+    else if (typed) {
+      // Numeric cluster codes: the distinct values first, one label each (same labels and order as below).
+      const seen = new Set<number>()
+      for (let r = 0; r < n; r++) seen.add(typed[rowIndex[r]!]!)
+      const distinct = [...seen]
+      clusterLabels = distinct.map(v => toLevel(v)).sort((p, q) => (p < q ? -1 : p > q ? 1 : 0))
+      const byLabel = new Map(clusterLabels.map((l, g) => [l, g]))
+      const idx = new Map(distinct.map(v => [v, byLabel.get(toLevel(v))!]))
+      for (let r = 0; r < n; r++) cluster[r] = idx.get(typed[rowIndex[r]!]!)!
+    }
+    else {
+      const get = acc.column(spec.cluster)
+      const labels = new Array<string>(n)
+      for (let r = 0; r < n; r++) labels[r] = toLevel(get(rowIndex[r]!))
+      clusterLabels = [...new Set(labels)].sort((p, q) => (p < q ? -1 : p > q ? 1 : 0))
+      const idx = new Map(clusterLabels.map((l, g) => [l, g]))
+      for (let r = 0; r < n; r++) cluster[r] = idx.get(labels[r]!)!
+    }
   }
   const design: Design = { n, k: kFull, X, y, w, cluster, clusterLabels, rowIndex, plan, rows, warnings }
   return dropCollinearColumns(design)

@@ -66,3 +66,47 @@ export function chiSquareSf(x: number, df: number): number {
   if (!(x > 0)) return 1
   return gammaQ(df / 2, x / 2)
 }
+
+/**
+ * Regularised incomplete beta I_x(a, b) by its continued fraction (modified Lentz), using the symmetry
+ * I_x(a, b) = 1 − I_{1−x}(b, a) where the fraction converges slowly (the standard method, e.g. Press et al.,
+ * Numerical Recipes, §6.4).
+ */
+export function betaIncomplete(x: number, a: number, b: number): number {
+  if (x <= 0) return 0
+  if (x >= 1) return 1
+  const front = Math.exp(logGamma(a + b) - logGamma(a) - logGamma(b) + a * Math.log(x) + b * Math.log(1 - x))
+  if (x > (a + 1) / (a + b + 2)) return 1 - betaIncomplete(1 - x, b, a)
+  const tiny = 1e-300
+  let c = 1
+  let d = 1 - ((a + b) * x) / (a + 1)
+  if (Math.abs(d) < tiny) d = tiny
+  d = 1 / d
+  let f = d
+  for (let m = 1; m <= 500; m++) {
+    const m2 = 2 * m
+    let num = (m * (b - m) * x) / ((a + m2 - 1) * (a + m2))
+    d = 1 + num * d
+    if (Math.abs(d) < tiny) d = tiny
+    c = 1 + num / c
+    if (Math.abs(c) < tiny) c = tiny
+    d = 1 / d
+    f *= d * c
+    num = (-(a + m) * (a + b + m) * x) / ((a + m2) * (a + m2 + 1))
+    d = 1 + num * d
+    if (Math.abs(d) < tiny) d = tiny
+    c = 1 + num / c
+    if (Math.abs(c) < tiny) c = tiny
+    d = 1 / d
+    const delta = d * c
+    f *= delta
+    if (Math.abs(delta - 1) < 1e-15) break
+  }
+  return (front * f) / a
+}
+
+/** Upper tail P(F > f) of the F distribution with (d1, d2) degrees of freedom. */
+export function fSf(f: number, d1: number, d2: number): number {
+  if (!(f > 0)) return 1
+  return betaIncomplete(d2 / (d2 + d1 * f), d2 / 2, d1 / 2)
+}

@@ -5,7 +5,8 @@
  * Step: δ = (−H)^{-1} g. If the new point lowers ℓ, the step is halved (up to 40 times).
  * If −H is not positive definite (possible for cauchit far from the optimum) a ridge
  * λ·diag(−H) is added until it is, and a warning is recorded.
- * Convergence needs BOTH
+ * Convergence needs BOTH (tested on the step δ computed at the current point, which is then
+ * taken: the estimate returned is the final iterate b + δ, with ℓ, g and H evaluated there)
  *   - gradient: the Newton decrement g'(−H)^{-1}g < gradTol (default 1e-10; it is the
  *     predicted remaining gain in ℓ times two, so it does not grow with N), and
  *   - relative change: max_j |δ_j| / max(1, |b_j|) < relTol (default 1e-8).
@@ -15,9 +16,10 @@
 import { checkSeparation } from './separation'
 import type { Design } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
-import { evaluate, type PassResult } from './likelihood'
+import { evaluate as evaluateSerial, type PassResult } from './likelihood'
 import { choleskyInPlace, choleskySolve } from './linalg'
 import { getLink, type Link, type LinkName } from './links'
+import type { ParallelPasses } from './parallel'
 import type { IterationRecord } from './types'
 
 export interface FitOptions {
@@ -30,6 +32,8 @@ export interface FitOptions {
   skipSeparationCheck?: boolean
   /** Start from a Newton fit on a 5% systematic subsample when n ≥ 40 000 (default true). */
   warmStart?: boolean
+  /** The fused pass split across threads (see parallel.ts); used for the full data, not the subsample. */
+  parallel?: ParallelPasses | null
 }
 
 export interface FitResult {
@@ -46,6 +50,35 @@ export interface FitResult {
   perfectlyPredicted: number
   /** Rows and iterations of the subsample fit that supplied the starting values, if any. */
   warmStart: { rows: number, iterations: number } | null
+  /** The design's column shift, when the fit ran in shifted coordinates (see `Design.shift`). */
+  shift: Float64Array | null
+  /** Hessian in the shifted coordinates (well conditioned), when `shift` is set. */
+  hessianShifted: Float64Array | null
+}
+
+/** b̃ = M'b: coefficients in the coordinates of the shifted columns x̃_j = x_j − c_j. */
+export function toShifted(b: ArrayLike<number>, c: Float64Array): Float64Array {
+  const out = Float64Array.from(b as ArrayLike<number>)
+  for (let j = 1; j < c.length; j++) out[0]! += c[j]! * out[j]!
+  return out
+}
+
+/** b = M'^{-1} b̃: back to the original columns. */
+export function fromShifted(bt: ArrayLike<number>, c: Float64Array): Float64Array {
+  const out = Float64Array.from(bt as ArrayLike<number>)
+  for (let j = 1; j < c.length; j++) out[0]! -= c[j]! * out[j]!
+  return out
+}
+
+/** g = M g̃ and H = M H̃ M' (M = I + c e_0'): score and Hessian in the original coordinates. */
+function unshiftPass(g: Float64Array, H: Float64Array, c: Float64Array, k: number): { g: Float64Array, H: Float64Array } {
+  const go = Float64Array.from(g)
+  for (let j = 1; j < k; j++) go[j]! += c[j]! * g[0]!
+  const Ho = new Float64Array(k * k)
+  for (let j = 0; j < k; j++) {
+    for (let m = 0; m < k; m++) Ho[j * k + m] = H[j * k + m]! + c[j]! * H[m]! + c[m]! * H[j * k]! + c[j]! * c[m]! * H[0]!
+  }
+  return { g: go, H: Ho }
 }
 
 function norm2(v: Float64Array): number {
@@ -81,10 +114,12 @@ interface LoopState {
 }
 
 /** Newton–Raphson with step halving from `b0`; see the module comment for the rules. */
-function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: number, gradTol: number, relTol: number): LoopState {
+function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: number, gradTol: number, relTol: number, parallel: ParallelPasses | null = null): LoopState {
   const k = design.k
   let b = b0
-  let cur = evaluate(design, link, b)
+  const shift = design.shift ?? null
+  const evaluate = (d: Design, l: Link, at: Float64Array, s: Float64Array | null): PassResult => (parallel ? parallel.evaluate(at, s) : evaluateSerial(d, l, at, s))
+  let cur = evaluate(design, link, b, shift)
   if (!Number.isFinite(cur.loglik)) throw new EngineInputError('non_finite_input', 'log-likelihood is not finite at the starting values')
   const iterations: IterationRecord[] = []
   let converged = false
@@ -103,6 +138,17 @@ function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: numbe
     iterations.push(record)
     if (!ridged && Math.abs(decrement) < gradTol && rel < relTol) {
       converged = true
+      // Return the final iterate b + δ (evaluated, so ℓ, g and H belong to the estimate returned),
+      // not the point the last step was computed at; keep b if rounding makes the step lower ℓ.
+      const nb = new Float64Array(k)
+      for (let j = 0; j < k; j++) nb[j] = b[j]! + step[j]!
+      const last = evaluate(design, link, nb, shift)
+      if (Number.isFinite(last.loglik) && last.loglik >= cur.loglik - 1e-13 * (1 + Math.abs(cur.loglik))) {
+        record.stepSize = 1
+        b = nb
+        cur = last
+        iterations.push({ iter: iter + 1, loglik: cur.loglik, gradientNorm: norm2(cur.gradient), stepSize: 0 })
+      }
       break
     }
     if (iter >= maxIter) break
@@ -112,7 +158,7 @@ function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: numbe
     for (let half = 0; half <= 40; half++) {
       nb = new Float64Array(k)
       for (let j = 0; j < k; j++) nb[j] = b[j]! + t * step[j]!
-      const cand = evaluate(design, link, nb)
+      const cand = evaluate(design, link, nb, shift)
       // Accept any non-decrease, allowing for rounding in a sum of n terms.
       if (Number.isFinite(cand.loglik) && cand.loglik >= cur.loglik - 1e-13 * (1 + Math.abs(cur.loglik))) {
         next = cand
@@ -169,6 +215,7 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
   if (options.start) {
     if (options.start.length !== k) throw new EngineInputError('invalid_spec', `start values have length ${options.start.length}, expected ${k}`)
     b.set(Array.from(options.start))
+    if (design.shift) b = toShifted(b, design.shift)
   }
   else {
     let s1 = 0
@@ -192,7 +239,7 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
       }
     }
   }
-  const { b: bFinal, cur, iterations, converged, lineSearchFailed, ridgedAtEnd } = newtonLoop(design, link, b, maxIter, gradTol, relTol)
+  const { b: bFinal, cur, iterations, converged, lineSearchFailed, ridgedAtEnd } = newtonLoop(design, link, b, maxIter, gradTol, relTol, options.parallel ?? null)
   b = bFinal
 
   if (lineSearchFailed) {
@@ -217,12 +264,16 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
       message: `${cur.perfectlyPredicted} rows are predicted with probability above 1 − 1e-10: possible (quasi-)separation by a combination of covariates`
     })
   }
+  const shift = design.shift ?? null
+  const back = shift ? unshiftPass(cur.gradient, cur.hessian, shift, k) : null
   return {
     link: link.name,
-    coef: b,
+    coef: shift ? fromShifted(b, shift) : b,
     loglik: cur.loglik,
-    gradient: cur.gradient,
-    hessian: cur.hessian,
+    gradient: back ? back.g : cur.gradient,
+    hessian: back ? back.H : cur.hessian,
+    shift,
+    hessianShifted: shift ? cur.hessian : null,
     converged,
     iterations,
     warnings,

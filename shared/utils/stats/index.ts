@@ -2,7 +2,7 @@
  * Furrowcast estimation engine: binary choice models P(adopt = 1 | x) = F(x'b).
  * Pure functions, no I/O; runs in browsers, workers and Node.
  */
-export { ENGINE_VERSION, predictedHistogram, runModel, summariseCovariance } from './run-model'
+export { ENGINE_VERSION, predictedHistogram, runModel, summariseCovariance, type RunOptions } from './run-model'
 export * from './types'
 export * from './errors'
 export * from './values'
@@ -21,3 +21,4 @@ export * from './classification'
 export * from './margins'
 export * from './predict'
 export * from './lrtest'
+export * from './parallel'

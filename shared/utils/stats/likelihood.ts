@@ -51,16 +51,18 @@ export function logLikelihood(design: Design, link: Link, b: ArrayLike<number>):
   return ll
 }
 
-/** One fused pass: ℓ, g and H at b. */
-export function evaluate(design: Design, link: Link, b: ArrayLike<number>): PassResult {
-  const { n, k, X, y, w } = design
-  const g = new Float64Array(k)
-  const H = new Float64Array(k * k)
+/**
+ * The fused pass over rows [start, end): adds to g and the lower triangle of H, returns
+ * [ℓ, rows predicted perfectly] of the range. Ranges can run on separate threads and be summed.
+ */
+export function evaluateRange(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, g: Float64Array, H: Float64Array): [number, number] {
+  const { k, X, y, w } = design
+  const n = end
   const t = new Float64Array(3)
   const bb = Float64Array.from(b as ArrayLike<number>)
   let ll = 0
   let perfect = 0
-  let i = 0
+  let i = start
   // Four rows per step: each Hessian cell is loaded and stored once per four rows.
   for (; i + 3 < n; i += 4) {
     const o1 = i * k
@@ -137,7 +139,60 @@ export function evaluate(design: Design, link: Link, b: ArrayLike<number>): Pass
       for (let m = 0; m <= j; m++) H[base + m]! += a1 * X[o1 + m]!
     }
   }
+  return [ll, perfect]
+}
+
+/**
+ * The same pass on shifted columns x̃_j = x_j − c_j (c_0 = 0), with b̃ in the shifted coordinates
+ * (x'b = x̃'b̃). Used when a column's level dwarfs its spread (a date coded yyyymmdd): the Hessian
+ * of the shifted problem is well conditioned, the uncentred one is not. One row at a time: rare.
+ */
+export function evaluateRangeShifted(design: Design, link: Link, bt: ArrayLike<number>, shift: Float64Array, start: number, end: number, g: Float64Array, H: Float64Array): [number, number] {
+  const { k, X, y, w } = design
+  const t = new Float64Array(3)
+  const xt = new Float64Array(k)
+  let ll = 0
+  let perfect = 0
+  for (let i = start; i < end; i++) {
+    const off = i * k
+    let eta = 0
+    for (let j = 0; j < k; j++) {
+      xt[j] = X[off + j]! - shift[j]!
+      eta += xt[j]! * bt[j]!
+    }
+    link.obsTerms(eta, y[i]!, t)
+    const wi = w ? w[i]! : 1
+    ll += wi * t[0]!
+    if (t[0]! > -1e-10) perfect++
+    const s1 = wi * t[1]!
+    const h1 = wi * t[2]!
+    for (let j = 0; j < k; j++) {
+      g[j]! += s1 * xt[j]!
+      const a1 = h1 * xt[j]!
+      const base = j * k
+      for (let m = 0; m <= j; m++) H[base + m]! += a1 * xt[m]!
+    }
+  }
+  return [ll, perfect]
+}
+
+/** Fills the upper triangle of H from the lower one. */
+export function symmetrise(H: Float64Array, k: number): void {
   for (let j = 0; j < k; j++) for (let m = 0; m < j; m++) H[m * k + j] = H[j * k + m]!
+}
+
+/**
+ * One fused pass: ℓ, g and H at b. With `shift`, b, g and H are in the shifted coordinates
+ * (see `evaluateRangeShifted`).
+ */
+export function evaluate(design: Design, link: Link, b: ArrayLike<number>, shift: Float64Array | null = null): PassResult {
+  const k = design.k
+  const g = new Float64Array(k)
+  const H = new Float64Array(k * k)
+  const [ll, perfect] = shift
+    ? evaluateRangeShifted(design, link, b, shift, 0, design.n, g, H)
+    : evaluateRange(design, link, b, 0, design.n, g, H)
+  symmetrise(H, k)
   return { loglik: ll, gradient: g, hessian: H, perfectlyPredicted: perfect }
 }
 

@@ -19,6 +19,7 @@ import { emptyProfile, fillRow, readProfile, transformValue, type CovariatePlan,
 import { EngineInputError } from './errors'
 import type { Covariance } from './covariance'
 import type { FitResult } from './fit'
+import type { ParallelPasses } from './parallel'
 import { quadForm } from './linalg'
 import { getLink, type Link } from './links'
 import { makeEstimate } from './summary'
@@ -26,7 +27,7 @@ import type { MarginalEffect, Margins, MarginsKind } from './types'
 import { toLevel, toYesNo } from './values'
 
 /** One effect to compute: a derivative w.r.t. a numeric covariate or a discrete change. */
-interface EffectPlan {
+export interface EffectPlan {
   covariate: number
   kind: 'derivative' | 'discrete'
   /** discrete: the level index to switch to (−1 = reference / 0), yes/no uses 0/1. */
@@ -36,7 +37,7 @@ interface EffectPlan {
   referenceName?: string
 }
 
-function planEffects(design: Design): EffectPlan[] {
+export function planEffects(design: Design): EffectPlan[] {
   const out: EffectPlan[] = []
   design.plan.covariates.forEach((c, ci) => {
     if (c.dropped) return
@@ -93,12 +94,39 @@ function dot(a: Float64Array, b: Float64Array, k: number): number {
 
 /** Effect values and Jacobians at a set of rows (all design rows) or at one profile. */
 function accumulate(
-  design: Design, link: Link, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null
+  design: Design, link: Link, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null, parallel: ParallelPasses | null = null
 ): { values: Float64Array, jac: Float64Array[] } {
-  const { n, k, X, w, plan } = design
+  const k = design.k
   const m = effects.length
-  const values = new Float64Array(m)
-  const jac = effects.map(() => new Float64Array(k))
+  let values: Float64Array = new Float64Array(m)
+  let jac: Float64Array[] = effects.map(() => new Float64Array(k))
+  let W: number
+  const shared = !profileAt && parallel ? parallel.ame(b) : null
+  if (shared) {
+    W = shared.weight
+    values = shared.values
+    jac = effects.map((_, e) => shared.jacobian.slice(e * k, (e + 1) * k))
+  }
+  else {
+    W = accumulateRange(design, link, b, effects, profileAt, 0, profileAt ? 1 : design.n, values, jac)
+  }
+  for (let e = 0; e < m; e++) {
+    values[e]! /= W
+    for (let j = 0; j < k; j++) jac[e]![j]! /= W
+  }
+  return { values, jac }
+}
+
+/**
+ * Sums of the effects and their Jacobians over rows [start, end) (or the one profile row), added to `values`
+ * and `jac`; returns the sum of weights. Ranges can run on separate threads and be summed.
+ */
+export function accumulateRange(
+  design: Design, link: Link, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null,
+  start: number, end: number, values: Float64Array, jac: Float64Array[]
+): number {
+  const { k, X, w, plan } = design
+  const m = effects.length
   const prof = emptyProfile(plan)
   const alt = emptyProfile(plan)
   const x = new Float64Array(k)
@@ -106,8 +134,7 @@ function accumulate(
   const x0 = new Float64Array(k)
   const dx = new Float64Array(k)
   let W = 0
-  const rows = profileAt ? 1 : n
-  for (let i = 0; i < rows; i++) {
+  for (let i = start; i < end; i++) {
     let wi = 1
     if (profileAt) {
       for (let c = 0; c < prof.length; c++) prof[c]!.set(profileAt[c]!)
@@ -152,11 +179,7 @@ function accumulate(
       }
     }
   }
-  for (let e = 0; e < m; e++) {
-    values[e]! /= W
-    for (let j = 0; j < k; j++) jac[e]![j]! /= W
-  }
-  return { values, jac }
+  return W
 }
 
 /** Weighted means of the profile values (the "mean farm"). */
@@ -210,6 +233,8 @@ export function applyValues(design: Design, profile: Profile, values: Record<str
 export interface MarginsOptions {
   kind?: MarginsKind
   at?: Record<string, number | string>
+  /** Passes over the rows split across threads (see parallel.ts); the single-thread pass when absent. */
+  parallel?: ParallelPasses | null
 }
 
 export function marginalEffects(design: Design, fit: FitResult, cov: Covariance, options: MarginsOptions = {}): Margins {
@@ -224,7 +249,7 @@ export function marginalEffects(design: Design, fit: FitResult, cov: Covariance,
       applyValues(design, profile, options.at)
     }
   }
-  const { values, jac } = accumulate(design, link, fit.coef, effects, profile)
+  const { values, jac } = accumulate(design, link, fit.coef, effects, profile, options.parallel ?? null)
   const k = design.k
   const out: MarginalEffect[] = effects.map((ef, e) => ({
     covariate: design.plan.covariates[ef.covariate]!.name,

@@ -4,18 +4,20 @@
  * same input gives the same numbers; only `timings` differ between runs.
  * Throws `EngineInputError` when the model cannot be fitted (see errors.ts).
  */
-import { classificationTable, hosmerLemeshow, rocCurve } from './classification'
+import { ascendingOrder, classificationTable, hosmerLemeshow, rocCurve } from './classification'
 import { computeCovariance, type Covariance } from './covariance'
-import { buildDesign } from './design'
+import { buildDesign, type Design } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
 import { fitBinary } from './fit'
+import type { LinkName } from './links'
 import { marginalEffects } from './margins'
+import type { ParallelPasses } from './parallel'
 import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
-import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
+import { coefficientTable, finiteOrNull, fitStatistics, waldAllSlopes } from './summary'
 import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
 import type { DataInput } from './values'
 
-export const ENGINE_VERSION = '1.0.0'
+export const ENGINE_VERSION = '1.1.0'
 
 /** Clock that works in browsers, workers and Node. */
 function now(): number {
@@ -33,16 +35,26 @@ export function summariseCovariance(cov: Covariance, terms: string[]): Covarianc
   return { type: cov.type, factor: cov.factor, clusters: cov.clusters, terms, matrix }
 }
 
-export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
+export interface RunOptions {
+  /**
+   * Supplies passes split across threads for a design (see parallel.ts), or null to stay on one thread. The
+   * engine is pure: threads are the host's, injected here; the single-thread path is the default.
+   */
+  parallel?: (design: Design, link: LinkName) => ParallelPasses | null
+}
+
+export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions = {}): ModelResults {
   const t0 = now()
   const design = buildDesign(data, spec)
   const t1 = now()
-  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations })
+  const parallel = options.parallel?.(design, spec.link ?? 'probit') ?? null
+  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations, parallel })
   const t2 = now()
   const seType = spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
-  const cov = computeCovariance(design, fit, seType)
+  const cov = computeCovariance(design, fit, seType, parallel)
   const coefficients = coefficientTable(design, fit, cov)
   const fitStats = fitStatistics(design, fit)
+  fitStats.wald = waldAllSlopes(fit, cov, design.n, design.w !== null)
   const p = predictProbabilities(design, fit)
   let cutoff = 0.5
   if (spec.cutoff === 'sample-rate') cutoff = (fitStats.weightSum > 0 ? sumWeighted(design.y, design.w) / fitStats.weightSum : 0.5)
@@ -51,13 +63,15 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
     cutoff = spec.cutoff
   }
   const classification = classificationTable(p, design.y, design.w, cutoff)
-  const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101)
-  const hl = hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10)
+  const order = ascendingOrder(p)
+  const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101, order)
+  // With sampling weights the Hosmer–Lemeshow statistic scales with the weights: not shown (see FitStatistics).
+  const hl = design.w ? null : hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10, order)
   const t3 = now()
   const marginsKind = spec.margins ?? 'ame'
-  const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt })
+  const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt, parallel })
   const otherKind = marginsKind === 'ame' ? 'mem' : marginsKind === 'mem' ? 'ame' : null
-  const otherMargins = spec.bothMargins && otherKind ? marginalEffects(design, fit, cov, { kind: otherKind }) : null
+  const otherMargins = spec.bothMargins && otherKind ? marginalEffects(design, fit, cov, { kind: otherKind, parallel }) : null
   const t4 = now()
   const villages = design.cluster ? villageMeans(design, fit, cov) : null
   const overall = overallMean(design, fit, cov)
@@ -74,7 +88,7 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
   if (seType === 'cluster' && cov.clusters !== null && cov.clusters < 30) {
     warnings.push({ code: 'few_clusters', message: `only ${cov.clusters} clusters: cluster-robust standard errors may be too small` })
   }
-  const minGroup = Math.min(...hl.groups.map(g => g.expected))
+  const minGroup = hl ? Math.min(...hl.groups.map(g => g.expected)) : Infinity
   if (minGroup < 5) {
     warnings.push({ code: 'small_hl_groups', message: 'some Hosmer–Lemeshow groups expect fewer than 5 adopters; the test is approximate' })
   }

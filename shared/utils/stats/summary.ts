@@ -3,9 +3,10 @@
  */
 import type { Covariance } from './covariance'
 import type { Design } from './design'
-import { chiSquareSf, twoSidedP, Z975 } from './distributions'
+import { chiSquareSf, fSf, twoSidedP, Z975 } from './distributions'
 import type { FitResult } from './fit'
-import type { CoefficientRow, Estimate, FitStatistics } from './types'
+import { choleskyInPlace, choleskySolve } from './linalg'
+import type { CoefficientRow, Estimate, FitStatistics, WaldTest } from './types'
 
 /** Turns NaN/Infinity into null so results stay JSON-safe. */
 export function finiteOrNull(x: number): number | null {
@@ -69,6 +70,14 @@ export function fitStatistics(design: Design, fit: FitResult): FitStatistics {
     for (let i = 0; i < n; i++) weightSum += w[i]!
   }
   const lr = 2 * (ll - ll0)
+  if (w) {
+    return {
+      n, k, weightSum, loglik: ll, loglikNull: ll0,
+      lrChi2: null, lrDf: k - 1, lrP: null, mcfaddenR2: null, aic: null, bic: null,
+      notAvailable: 'With sampling weights the likelihood-ratio test, pseudo-R², AIC, BIC and the Hosmer–Lemeshow test are not available: they change with the scale of the weights. Use the Wald test of all slopes.',
+      wald: null
+    }
+  }
   return {
     n,
     k,
@@ -80,6 +89,31 @@ export function fitStatistics(design: Design, fit: FitResult): FitStatistics {
     lrP: chiSquareSf(lr, k - 1),
     mcfaddenR2: 1 - ll / ll0,
     aic: -2 * ll + 2 * k,
-    bic: -2 * ll + k * Math.log(n)
+    bic: -2 * ll + k * Math.log(n),
+    notAvailable: null,
+    wald: null
   }
+}
+
+/**
+ * Wald test that every slope (all coefficients but the intercept) is 0: W = b_s' V_ss^{-1} b_s with V the model's
+ * covariance. With cluster SEs the design has G − 1 degrees of freedom and the test is F = W/q on (q, G − 1); with
+ * weights and no clusters each row is its own sampling unit (q, n − 1); otherwise χ²(q). Unchanged by the scale
+ * of the weights, as coefficients and robust covariances are.
+ */
+export function waldAllSlopes(fit: FitResult, cov: Covariance, n: number, weighted: boolean): WaldTest | null {
+  const k = fit.coef.length
+  const q = k - 1
+  if (!cov.V || q < 1) return null
+  const A = new Float64Array(q * q)
+  for (let i = 0; i < q; i++) for (let j = 0; j < q; j++) A[i * q + j] = cov.V[(i + 1) * k + (j + 1)]!
+  const L = Float64Array.from(A)
+  if (!choleskyInPlace(L, q)) return null
+  const b = fit.coef.slice(1)
+  const x = choleskySolve(L, q, b)
+  let W = 0
+  for (let i = 0; i < q; i++) W += b[i]! * x[i]!
+  const df2 = cov.type === 'cluster' && cov.clusters ? cov.clusters - 1 : weighted && cov.type !== 'conventional' ? n - 1 : null
+  if (df2 !== null && df2 > 0) return { statistic: W / q, df: q, df2, p: fSf(W / q, q, df2), kind: 'F' }
+  return { statistic: W, df: q, df2: null, p: chiSquareSf(W, q), kind: 'chi2' }
 }

@@ -105,14 +105,33 @@ export interface FitStatistics {
   k: number
   /** Sum of weights (equals n without weights). */
   weightSum: number
+  /** With sampling weights a pseudo-log-likelihood: it scales with the weights. */
   loglik: number
   loglikNull: number
-  lrChi2: number
+  /**
+   * The likelihood-based figures below are null with sampling (probability) weights: they change with the scale
+   * of the weights (×100 multiplies the LR χ² by 100) and are not valid tests or criteria for a weighted sample.
+   */
+  lrChi2: number | null
   lrDf: number
-  lrP: number
-  mcfaddenR2: number
-  aic: number
-  bic: number
+  lrP: number | null
+  mcfaddenR2: number | null
+  aic: number | null
+  bic: number | null
+  /** Why the figures above are absent, in one sentence for the results page; null when they are given. */
+  notAvailable: string | null
+  /** Wald test that all slopes are 0, from the model's covariance (set by runModel; null when it is singular). */
+  wald: WaldTest | null
+}
+
+/** Wald test of q linear restrictions: F = W/q on (q, df2) when df2 is finite (design df), else χ²(q). */
+export interface WaldTest {
+  statistic: number
+  df: number
+  /** Denominator df (clusters − 1 with cluster SEs; rows − 1 with other robust SEs and weights), or null for χ². */
+  df2: number | null
+  p: number
+  kind: 'F' | 'chi2'
 }
 
 export interface ClassificationTable {

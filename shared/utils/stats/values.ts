@@ -5,8 +5,24 @@
 import { EngineInputError } from './errors'
 
 export type DataRows = ReadonlyArray<Readonly<Record<string, unknown>>>
-/** Column-oriented data: one array (plain or typed) per variable, all of the same length. */
-export type DataColumns = Readonly<Record<string, ArrayLike<unknown>>>
+/**
+ * A text column stored as codes into its distinct values (code −1: missing): compact, and it crosses to a
+ * worker thread as one transferable buffer instead of a million strings.
+ */
+export interface CodedColumn {
+  codes: Int32Array
+  levels: string[]
+}
+/** Column-oriented data: one array (plain or typed) or coded column per variable, all of the same length. */
+export type DataColumns = Readonly<Record<string, ArrayLike<unknown> | CodedColumn>>
+
+export function isCodedColumn(col: unknown): col is CodedColumn {
+  return typeof col === 'object' && col !== null && (col as CodedColumn).codes instanceof Int32Array && Array.isArray((col as CodedColumn).levels)
+}
+
+function columnLength(col: ArrayLike<unknown> | CodedColumn): number {
+  return isCodedColumn(col) ? col.codes.length : col.length
+}
 export type DataInput = DataRows | DataColumns
 
 export interface DataAccessor {
@@ -29,10 +45,10 @@ export function accessData(data: DataInput): DataAccessor {
   }
   const cols = data as DataColumns
   const keys = Object.keys(cols)
-  const n = keys.length ? cols[keys[0]!]!.length : 0
+  const n = keys.length ? columnLength(cols[keys[0]!]!) : 0
   for (const key of keys) {
-    if (cols[key]!.length !== n) {
-      throw new EngineInputError('invalid_spec', `column '${key}' has ${cols[key]!.length} values, expected ${n}`, [key])
+    if (columnLength(cols[key]!) !== n) {
+      throw new EngineInputError('invalid_spec', `column '${key}' has ${columnLength(cols[key]!)} values, expected ${n}`, [key])
     }
   }
   return {
@@ -40,6 +56,10 @@ export function accessData(data: DataInput): DataAccessor {
     has: name => Object.prototype.hasOwnProperty.call(cols, name),
     column: (name) => {
       const col = cols[name]!
+      if (isCodedColumn(col)) {
+        const { codes, levels } = col
+        return (i: number) => (codes[i]! < 0 ? null : levels[codes[i]!])
+      }
       return (i: number) => col[i]
     }
   }
@@ -54,14 +74,22 @@ export function isMissing(v: unknown): boolean {
   return false
 }
 
-/** A finite number from a number, boolean or numeric string; throws otherwise. */
+/**
+ * Decimal notation: optional sign, digits with at most one '.', optional exponent (1e3 and 2.5E-4 are how
+ * statistics programs write small and large values). Not hexadecimal, binary, octal, Infinity or NaN.
+ */
+export const DECIMAL = /^[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?$/
+
+/** A finite number from a number, boolean or decimal string; throws otherwise. */
 export function toNumber(v: unknown, variable: string, row: number): number {
   let x: number
   if (typeof v === 'number') x = v
   else if (typeof v === 'boolean') x = v ? 1 : 0
   else if (typeof v === 'string') {
-    x = Number(v.trim())
-    if (Number.isNaN(x)) throw new EngineInputError('invalid_value', `'${variable}' has a non-numeric value '${v}' in row ${row + 1}`, [variable])
+    const s = v.trim()
+    // Decimal notation only: Number() would also read 0x1A, 0b11, 0o7 and Infinity.
+    if (!DECIMAL.test(s)) throw new EngineInputError('invalid_value', `'${variable}' has a value '${v}' in row ${row + 1} that is not a decimal number`, [variable])
+    x = Number(s)
   }
   else throw new EngineInputError('invalid_value', `'${variable}' has an unreadable value in row ${row + 1}`, [variable])
   if (!Number.isFinite(x)) {

@@ -8,12 +8,14 @@ import { describe, expect, it } from 'vitest'
 import { FIXTURES, relErr } from './helpers'
 
 const root = fileURLToPath(new URL('../../..', import.meta.url))
-const run = (...args: string[]) => spawnSync(process.execPath, ['--import', 'tsx', 'scripts/fit.ts', ...args], { cwd: root, encoding: 'utf8' })
+// `npm run fit` runs scripts/fit.mjs (the CLI bundled once, then plain node).
+const run = (...args: string[]) => spawnSync(process.execPath, ['scripts/fit.mjs', ...args], { cwd: root, encoding: 'utf8' })
 const mroz = `${FIXTURES}reference/mroz.csv`
 const ref = JSON.parse(readFileSync(`${FIXTURES}reference/reference-values.json`, 'utf8')).models
   .find((m: { id: string }) => m.id === 'mroz_probit')
 
-describe('scripts/fit.ts', () => {
+// Subprocesses on a shared, loaded machine: generous time.
+describe('scripts/fit.ts', { timeout: 120_000 }, () => {
   it('prints the results object as JSON matching the Mroz (1987) probit reference (Wooldridge, Example 17.1)', () => {
     const r = run(mroz, '--outcome', 'inlf', '--covariates', 'nwifeinc,educ,exper,expersq,age,kidslt6,kidsge6', '--json')
     expect(r.status, r.stderr).toBe(0)
@@ -51,5 +53,60 @@ describe('scripts/fit.ts', () => {
     }
     expect(cases[0]!.stderr).toContain('nosuchcolumn')
     expect(cases[1]!.stderr).toContain('must be 0/1')
+  })
+
+  it('refuses a header naming a column twice, and a numeric cell not in decimal notation, naming the line', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'fc-cli-'))
+    const body = Array.from({ length: 40 }, (_, i) => `${i % 3 === 0 ? 1 : 0},${(i * 7) % 11},${(i * 5) % 13}`)
+    writeFileSync(join(dir, 'dup.csv'), ['y,x,x', ...body].join('\n'))
+    const dup = run(join(dir, 'dup.csv'), '--outcome', 'y', '--covariates', 'x')
+    expect(dup.status).toBe(2)
+    expect(dup.stderr).toContain('names column \'x\' twice (columns 2 and 3)')
+    for (const bad of ['0x1A', '0b11', 'Infinity', 'NaN', '1_000']) {
+      const rows = body.slice()
+      rows[4] = `1,${bad},3`
+      writeFileSync(join(dir, 'bad.csv'), ['y,x,z', ...rows].join('\n'))
+      const r = run(join(dir, 'bad.csv'), '--outcome', 'y')
+      expect(r.status, bad).toBe(2)
+      expect(r.stderr.trim().split('\n')).toHaveLength(1)
+      expect(r.stderr).toContain(`column 'x', line 6: '${bad}' is not a decimal number`)
+    }
+    // Exponents are decimal notation (1e0 = 1): the same fit as with the plain digits.
+    const plain = body.slice()
+    plain[4] = '1,1,3'
+    const withExp = body.slice()
+    withExp[4] = '1,1e0,3'
+    writeFileSync(join(dir, 'plain.csv'), ['y,x,z', ...plain].join('\n'))
+    writeFileSync(join(dir, 'exp.csv'), ['y,x,z', ...withExp].join('\n'))
+    const a = JSON.parse(run(join(dir, 'plain.csv'), '--outcome', 'y', '--json').stdout)
+    const b = JSON.parse(run(join(dir, 'exp.csv'), '--outcome', 'y', '--json').stdout)
+    expect(b.coefficients).toEqual(a.coefficients)
+  })
+
+  it('detects a semicolon-separated file, reads decimal commas when told, and says which separator it used', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'fc-cli-'))
+    const src = readFileSync(mroz, 'utf8').trim().split('\n')
+    const head = src[0]!.split(',').map(h => h.replace(/"/g, ''))
+    const cols = ['inlf', 'educ', 'kidslt6'].map(c => head.indexOf(c))
+    const pick = (line: string) => cols.map(j => line.split(',')[j]!)
+    writeFileSync(join(dir, 'comma.csv'), src.map(l => pick(l).join(',')).join('\n'))
+    writeFileSync(join(dir, 'semi.csv'), src.map(l => pick(l).join(';')).join('\n'))
+    // Decimal commas in a numeric column: educ as 12,0 etc.
+    writeFileSync(join(dir, 'semi-comma.csv'), src.map((l, i) => {
+      const p = pick(l)
+      if (i > 0) p[1] = `${p[1]},0`
+      return p.join(';')
+    }).join('\n'))
+    const comma = run(join(dir, 'comma.csv'), '--outcome', 'inlf', '--json')
+    const semi = run(join(dir, 'semi.csv'), '--outcome', 'inlf', '--json')
+    expect(semi.status, semi.stderr).toBe(0)
+    expect(JSON.parse(semi.stdout).coefficients).toEqual(JSON.parse(comma.stdout).coefficients)
+    expect(run(join(dir, 'semi.csv'), '--outcome', 'inlf').stdout).toContain('columns separated by semicolon')
+    const noDecimal = run(join(dir, 'semi-comma.csv'), '--outcome', 'inlf')
+    expect(noDecimal.status).toBe(2)
+    expect(noDecimal.stderr).toContain('pass --decimal ,')
+    const decimal = run(join(dir, 'semi-comma.csv'), '--outcome', 'inlf', '--decimal', ',', '--json')
+    expect(decimal.status, decimal.stderr).toBe(0)
+    expect(JSON.parse(decimal.stdout).coefficients).toEqual(JSON.parse(comma.stdout).coefficients)
   })
 })

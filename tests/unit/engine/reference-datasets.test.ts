@@ -168,15 +168,15 @@ for (const c of cases) {
       const s = fitStatistics(design, fit)
       const pairs: Array<[string, number, number]> = [
         ['loglik', s.loglik, r.fit.loglik], ['loglik_null', s.loglikNull, r.fit.loglik_null],
-        ['llr_chi2', s.lrChi2, r.fit.llr_chi2], ['mcfadden_r2', s.mcfaddenR2, r.fit.mcfadden_r2],
-        ['aic', s.aic, r.fit.aic], ['bic', s.bic, r.fit.bic]
+        ['llr_chi2', s.lrChi2!, r.fit.llr_chi2], ['mcfadden_r2', s.mcfaddenR2!, r.fit.mcfadden_r2],
+        ['aic', s.aic!, r.fit.aic], ['bic', s.bic!, r.fit.bic]
       ]
       for (const [name, a, b] of pairs) {
         const e = relErr(a, b)
         worst.fit = Math.max(worst.fit, e)
         expect(e, name).toBeLessThan(1e-6)
       }
-      expect(relErr(s.lrP, r.fit.llr_pvalue)).toBeLessThan(1e-6)
+      expect(relErr(s.lrP!, r.fit.llr_pvalue)).toBeLessThan(1e-6)
       expect(s.n).toBe(r.fit.nobs)
     })
 

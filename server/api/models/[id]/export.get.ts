@@ -9,12 +9,12 @@ export default defineRoleHandler(['coordinator'], async (event, user) => {
   const { format } = await getValidatedQuery(event, validateWith(querySchema))
   const run = await findModelRun(id, user.organisationId)
   if (run.status !== 'done' || !run.results) throw createError({ statusCode: 409, message: 'This run has no results to export yet.' })
-  const data = await modelDataForRound(run.roundId, user.organisationId)
+  const context = await roundContext(run.roundId, user.organisationId)
   setResponseHeader(event, 'content-disposition', `attachment; filename="furrowcast-model-${run.id}.${format}"`)
   if (format === 'json') {
     setResponseHeader(event, 'content-type', 'application/json; charset=utf-8')
     return { cautions: MODEL_CAUTIONS, run: { id: run.id, spec: run.spec, rowsHash: run.rowsHash, engineVersion: run.engineVersion, createdAt: run.createdAt }, results: run.results }
   }
   setResponseHeader(event, 'content-type', 'text/csv; charset=utf-8')
-  return runAsCsv(run, data.villageNames)
+  return runAsCsv(run, context.villageNames)
 })

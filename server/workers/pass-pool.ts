@@ -1,0 +1,246 @@
+/**
+ * The engine's row passes on several threads over shared memory (an implementation of `ParallelPasses`).
+ *
+ * The design's arrays are copied once into SharedArrayBuffers; helper threads (this same module's file, started
+ * with `workerData.role = 'furrowcast-pass'`) each own one fixed block of rows. A pass is one round of Atomics:
+ * the caller writes the parameters and the task, bumps a generation counter and wakes the helpers, computes its
+ * own block, then waits until every helper has written its partial sums into its slot; the slots are added in
+ * block order. Synchronous on the caller's side (Atomics.wait), because the engine's Newton loop is synchronous —
+ * which is why this is not a message-passing pool. Used for n ≥ PARALLEL_MIN_ROWS only: below that, starting
+ * threads costs more than the pass.
+ */
+import { availableParallelism } from 'node:os'
+import { MessageChannel, Worker, isMainThread, receiveMessageOnPort, workerData, type MessagePort } from 'node:worker_threads'
+import {
+  accumulateRange, clusterCount, clusterScoresRange, evaluateRange, evaluateRangeShifted, getLink, planEffects, rowBlocks, symmetrise,
+  type Design, type DesignPlan, type LinkName, type ParallelPasses, type PassResult
+} from '../../shared/utils/stats/index'
+
+export const PARALLEL_MIN_ROWS = 50_000
+const ROLE = 'furrowcast-pass'
+// Control words: generation, task, helpers done, stop.
+const GEN = 0
+const TASK = 1
+const DONE = 2
+const STOP = 3
+const TASK_EVALUATE = 1
+const TASK_EVALUATE_SHIFTED = 2
+const TASK_CLUSTER = 3
+const TASK_AME = 4
+const TASK_ATTACH = 5
+
+interface Shared {
+  n: number
+  k: number
+  G: number
+  m: number
+  slot: number
+  blocks: Array<[number, number]>
+  link: LinkName
+  plan: DesignPlan
+  X: SharedArrayBuffer
+  y: SharedArrayBuffer
+  w: SharedArrayBuffer | null
+  cluster: SharedArrayBuffer | null
+  control: SharedArrayBuffer
+  params: SharedArrayBuffer
+  results: SharedArrayBuffer
+}
+
+function sharedCopy(a: Float64Array | Int32Array): SharedArrayBuffer {
+  const sab = new SharedArrayBuffer(a.byteLength)
+  new Uint8Array(sab).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength))
+  return sab
+}
+
+function designOf(s: Shared): Design {
+  return {
+    n: s.n, k: s.k, X: new Float64Array(s.X), y: new Float64Array(s.y), w: s.w ? new Float64Array(s.w) : null,
+    cluster: s.cluster ? new Int32Array(s.cluster) : null, clusterLabels: [], rowIndex: new Int32Array(0), plan: s.plan,
+    rows: { totalRows: s.n, used: s.n, dropped: 0, byVariable: [] }, warnings: []
+  }
+}
+
+/** One block's share of the current task, written into result slot `t`. */
+function runBlock(s: Shared, design: Design, t: number, task: number): void {
+  const [start, end] = s.blocks[t]!
+  const k = s.k
+  const params = new Float64Array(s.params)
+  const out = new Float64Array(s.results, t * s.slot * 8, s.slot)
+  out.fill(0)
+  const link = getLink(s.link)
+  const b = params.subarray(0, k)
+  const shift = params.subarray(k, 2 * k)
+  if (task === TASK_EVALUATE || task === TASK_EVALUATE_SHIFTED) {
+    const g = out.subarray(2, 2 + k)
+    const H = out.subarray(2 + k, 2 + k + k * k)
+    const [ll, perfect] = task === TASK_EVALUATE_SHIFTED
+      ? evaluateRangeShifted(design, link, b, shift, start, end, g, H)
+      : evaluateRange(design, link, b, start, end, g, H)
+    out[0] = ll
+    out[1] = perfect
+  }
+  else if (task === TASK_CLUSTER) {
+    clusterScoresRange(design, link, b, shift, start, end, out.subarray(0, s.G * k))
+  }
+  else if (task === TASK_AME) {
+    const effects = planEffects(design)
+    const values = out.subarray(1, 1 + s.m)
+    const jac = effects.map((_, e) => out.subarray(1 + s.m + e * k, 1 + s.m + (e + 1) * k))
+    out[0] = accumulateRange(design, link, b, effects, null, start, end, values, jac)
+  }
+}
+
+/**
+ * The helper thread's loop: wait for a new generation, run this block, report, until told to stop. A new design
+ * arrives as a message read synchronously (receiveMessageOnPort): the thread is blocked in Atomics.wait, never in
+ * its event loop.
+ */
+function helperLoop(control: Int32Array, port: MessagePort, t: number): void {
+  let s: Shared | null = null
+  let design: Design | null = null
+  let seen = 0
+  for (;;) {
+    Atomics.wait(control, GEN, seen)
+    const gen = Atomics.load(control, GEN)
+    if (gen === seen) continue
+    seen = gen
+    if (Atomics.load(control, STOP)) return
+    const task = Atomics.load(control, TASK)
+    if (task === TASK_ATTACH) {
+      s = (receiveMessageOnPort(port)!.message as Shared)
+      design = designOf(s)
+    }
+    else runBlock(s!, design!, t, task)
+    Atomics.add(control, DONE, 1)
+    Atomics.notify(control, DONE)
+  }
+}
+
+if (!isMainThread && workerData?.role === ROLE) {
+  // Tell the starter this thread has loaded, then serve passes.
+  ;(workerData.port as MessagePort).postMessage('ready')
+  helperLoop(new Int32Array(workerData.control as SharedArrayBuffer), workerData.port as MessagePort, workerData.block as number)
+}
+
+/** Started helper threads, ready to take a design. */
+export interface PassHelpers {
+  threads: number
+  /** Gives the helpers this design (its arrays are replaced by shared copies) and returns its passes. */
+  attach: (design: Design, link: LinkName) => ParallelPasses
+  close: () => Promise<void>
+}
+
+/**
+ * Starts `threads − 1` helper threads running `script` (a bundle or module that imports this one; its top level
+ * starts the helper loop) and waits until they have loaded, so that no pass ever waits on a thread's start-up.
+ * The script must be plain JavaScript (a bundle): helper threads do not get a TypeScript loader.
+ */
+export async function startPassHelpers(script: URL | string, threads = Math.min(4, availableParallelism())): Promise<PassHelpers> {
+  const control = new Int32Array(new SharedArrayBuffer(16))
+  const channels = Array.from({ length: threads - 1 }, () => new MessageChannel())
+  const helpers = channels.map((ch, i) => new Worker(script, { workerData: { role: ROLE, control: control.buffer, port: ch.port2, block: i + 1 }, transferList: [ch.port2] }))
+  await Promise.all(channels.map((ch, i) => new Promise<void>((resolve, reject) => {
+    ch.port1.once('message', () => resolve())
+    helpers[i]!.once('error', reject)
+    helpers[i]!.once('exit', code => reject(new Error(`a pass helper thread stopped at start (exit code ${code})`)))
+  })))
+  for (const h of helpers) h.removeAllListeners('exit')
+
+  function signal(task: number): void {
+    Atomics.store(control, DONE, 0)
+    Atomics.store(control, TASK, task)
+    Atomics.add(control, GEN, 1)
+    Atomics.notify(control, GEN)
+  }
+  function waitHelpers(): void {
+    const deadline = Date.now() + 120_000
+    for (;;) {
+      const done = Atomics.load(control, DONE)
+      if (done >= helpers.length) return
+      // Blocking: a helper that died cannot be heard from while this thread waits, hence the deadline.
+      if (Date.now() > deadline) throw new Error('a pass helper thread did not answer within 120 s')
+      Atomics.wait(control, DONE, done, 100)
+    }
+  }
+
+  return {
+    threads,
+    attach(design, linkName) {
+      const k = design.k
+      const G = design.cluster ? clusterCount(design) : 0
+      const m = planEffects(design).length
+      const blocks = rowBlocks(design.n, threads)
+      const slot = Math.max(2 + k + k * k, G * k, 1 + m + m * k)
+      const shared: Shared = {
+        n: design.n, k, G, m, slot, blocks, link: linkName, plan: design.plan,
+        X: sharedCopy(design.X), y: sharedCopy(design.y), w: design.w ? sharedCopy(design.w) : null,
+        cluster: design.cluster ? sharedCopy(design.cluster) : null,
+        control: control.buffer as SharedArrayBuffer, params: new SharedArrayBuffer(2 * k * 8), results: new SharedArrayBuffer(threads * slot * 8)
+      }
+      const mine = designOf(shared)
+      // The caller's design reads the shared copies from now on, so the private ones can be collected.
+      design.X = mine.X
+      design.y = mine.y
+      design.w = mine.w
+      design.cluster = mine.cluster
+      for (const ch of channels) ch.port1.postMessage(shared)
+      signal(TASK_ATTACH)
+      waitHelpers()
+      const params = new Float64Array(shared.params)
+
+      function run(task: number, b: ArrayLike<number>, shift: ArrayLike<number> | null): Float64Array[] {
+        params.fill(0)
+        params.set(b, 0)
+        if (shift) params.set(shift, k)
+        signal(task)
+        runBlock(shared, mine, 0, task)
+        waitHelpers()
+        return blocks.map((_, t) => new Float64Array(shared.results, t * slot * 8, slot))
+      }
+
+      return {
+        blocks: threads,
+        evaluate(b, shift): PassResult {
+          const parts = run(shift ? TASK_EVALUATE_SHIFTED : TASK_EVALUATE, b, shift)
+          const g = new Float64Array(k)
+          const H = new Float64Array(k * k)
+          let ll = 0
+          let perfect = 0
+          for (const p of parts) {
+            ll += p[0]!
+            perfect += p[1]!
+            for (let j = 0; j < k; j++) g[j]! += p[2 + j]!
+            for (let j = 0; j < k * k; j++) H[j]! += p[2 + k + j]!
+          }
+          symmetrise(H, k)
+          return { loglik: ll, gradient: g, hessian: H, perfectlyPredicted: perfect }
+        },
+        clusterScores(b, shift) {
+          const parts = run(TASK_CLUSTER, b, shift)
+          const U = new Float64Array(G * k)
+          for (const p of parts) for (let j = 0; j < G * k; j++) U[j]! += p[j]!
+          return U
+        },
+        ame(b) {
+          const parts = run(TASK_AME, b, null)
+          let weight = 0
+          const values = new Float64Array(m)
+          const jacobian = new Float64Array(m * k)
+          for (const p of parts) {
+            weight += p[0]!
+            for (let e = 0; e < m; e++) values[e]! += p[1 + e]!
+            for (let j = 0; j < m * k; j++) jacobian[j]! += p[1 + m + j]!
+          }
+          return { weight, values, jacobian }
+        }
+      }
+    },
+    async close() {
+      Atomics.store(control, STOP, 1)
+      Atomics.add(control, GEN, 1)
+      Atomics.notify(control, GEN)
+      await Promise.all(helpers.map(h => h.terminate()))
+    }
+  }
+}
