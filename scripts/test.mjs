@@ -10,6 +10,12 @@ import { DATA, ensureDebianPackage, ensureNodeModules, run, say } from './lib/sy
 ensureNodeModules()
 ensureDebianPackage('chromium', () => existsSync('/usr/bin/chromium'), 'the browser tests')
 ensureDebianPackage('python3-statsmodels', () => spawnSync('/usr/bin/python3', ['-c', 'import statsmodels'], { stdio: 'ignore' }).status === 0, 'the engine\'s reference comparison')
+// R with lme4 (random intercept), survey (survey design) and jsonlite: the outside references the engine tests run.
+const rHas = pkg => () => spawnSync('Rscript', ['-e', `suppressPackageStartupMessages(library(${pkg}))`], { stdio: 'ignore' }).status === 0
+ensureDebianPackage('r-base-core', () => spawnSync('Rscript', ['--version'], { stdio: 'ignore' }).status === 0, 'the engine\'s R reference comparisons')
+ensureDebianPackage('r-cran-lme4', rHas('lme4'), 'the random-intercept reference comparison')
+ensureDebianPackage('r-cran-survey', rHas('survey'), 'the survey-design reference comparison')
+ensureDebianPackage('r-cran-jsonlite', rHas('jsonlite'), 'the engine\'s R reference comparisons')
 
 const results = []
 function stage(name, command, args, env) {

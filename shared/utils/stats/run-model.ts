@@ -11,8 +11,11 @@ import { EngineInputError, type EngineWarning } from './errors'
 import { fitBinary } from './fit'
 import { marginalEffects } from './margins'
 import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
+import { runRandomIntercept } from './run-random-intercept'
 import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
-import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
+import { readSurveyColumns, surveyCovariance, type SurveyCovariance } from './survey'
+import { surveyCoefficientTable, surveySummary } from './survey-results'
+import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram, SurveyResults } from './types'
 import type { DataInput } from './values'
 
 export const ENGINE_VERSION = '1.0.0'
@@ -33,15 +36,33 @@ export function summariseCovariance(cov: Covariance, terms: string[]): Covarianc
   return { type: cov.type, factor: cov.factor, clusters: cov.clusters, terms, matrix }
 }
 
+/**
+ * The one entry point. `villageTreatment` chooses the family and the covariance:
+ * 'random-intercept' → run-random-intercept.ts; 'survey' → the pooled (weighted) fit with
+ * the design-based covariance of survey.ts; otherwise the pooled fit with `se`.
+ */
 export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
+  const treatment = spec.villageTreatment ?? 'cluster'
+  if (treatment === 'random-intercept') return runRandomIntercept(data, spec, ENGINE_VERSION, predictedHistogram)
+  if (treatment !== 'cluster' && treatment !== 'survey') throw new EngineInputError('invalid_spec', `unknown village treatment '${String(treatment)}'`)
+  if (treatment === 'survey' && !spec.weights) throw new EngineInputError('invalid_spec', 'a survey design needs the probability weights column')
+  if (treatment !== 'survey' && (spec.strata || spec.fpc)) throw new EngineInputError('invalid_spec', 'strata and fpc belong to the survey design; choose it as the village treatment')
   const t0 = now()
   const design = buildDesign(data, spec)
   const t1 = now()
   const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations })
   const t2 = now()
-  const seType = spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
-  const cov = computeCovariance(design, fit, seType)
-  const coefficients = coefficientTable(design, fit, cov)
+  let surveyCov: SurveyCovariance | null = null
+  let survey: SurveyResults | null = null
+  const seType = treatment === 'survey' ? 'survey' : spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
+  let cov: Covariance
+  if (treatment === 'survey') {
+    surveyCov = surveyCovariance(design, fit, readSurveyColumns(data, design, spec.strata, spec.fpc))
+    survey = surveySummary(design, fit.coef, surveyCov, { strata: spec.strata ?? null, psu: spec.cluster ?? null, fpc: spec.fpc ?? null })
+    cov = surveyCov
+  }
+  else cov = computeCovariance(design, fit, seType)
+  const coefficients = surveyCov ? surveyCoefficientTable(design, fit.coef, surveyCov) : coefficientTable(design, fit, cov)
   const fitStats = fitStatistics(design, fit)
   const p = predictProbabilities(design, fit)
   let cutoff = 0.5
@@ -65,6 +86,9 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
   const t5 = now()
 
   const warnings: EngineWarning[] = [...design.warnings, ...fit.warnings]
+  if (surveyCov && surveyCov.df < 30) {
+    warnings.push({ code: 'few_clusters', message: `only ${surveyCov.df} design degrees of freedom (PSUs − strata): intervals are wide and tests of many terms are unreliable` })
+  }
   if (design.w && seType === 'conventional') {
     warnings.push({
       code: 'weights_not_likelihood',
@@ -108,7 +132,10 @@ export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
       marginsMs: t4 - t3,
       predictionsMs: t5 - t4,
       totalMs: t5 - t0
-    }
+    },
+    villageTreatment: treatment,
+    randomIntercept: null,
+    survey
   }
 }
 
