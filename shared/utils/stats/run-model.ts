@@ -11,11 +11,14 @@ import { EngineInputError, type EngineWarning } from './errors'
 import { fitBinary } from './fit'
 import { marginalEffects } from './margins'
 import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
+import { fitHeteroProbit } from './hetero-probit'
+import { linkTest } from './link-test'
+import { transitionTable, withFarmMeans, withRoundEffects } from './rounds'
 import { runRandomIntercept } from './run-random-intercept'
 import { coefficientTable, finiteOrNull, fitStatistics } from './summary'
 import { readSurveyColumns, surveyCovariance, type SurveyCovariance } from './survey'
 import { surveyCoefficientTable, surveySummary } from './survey-results'
-import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram, SurveyResults } from './types'
+import type { ChecksResults, CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram, SurveyResults, VillageTreatment } from './types'
 import type { DataInput } from './values'
 
 export const ENGINE_VERSION = '1.0.0'
@@ -43,7 +46,46 @@ export function summariseCovariance(cov: Covariance, terms: string[]): Covarianc
  */
 export function runModel(data: DataInput, spec: ModelSpec): ModelResults {
   const treatment = spec.villageTreatment ?? 'cluster'
-  if (treatment === 'random-intercept') return runRandomIntercept(data, spec, ENGINE_VERSION, predictedHistogram)
+  let work: DataInput = data
+  let s = spec
+  let farmMeans: string[] = []
+  if (spec.rounds) s = withRoundEffects(s, data, spec.rounds)
+  if (spec.panelId && treatment === 'random-intercept') {
+    const fm = withFarmMeans(data, s, spec.panelId)
+    work = fm.data
+    s = { ...fm.spec, cluster: spec.panelId }
+    farmMeans = fm.meanOf
+  }
+  const res = treatment === 'random-intercept'
+    ? runRandomIntercept(work, s, ENGINE_VERSION, predictedHistogram)
+    : runPooled(work, s, treatment)
+  res.rounds = spec.rounds || spec.panelId
+    ? {
+        column: spec.rounds ?? null,
+        panelId: spec.panelId ?? null,
+        transitions: spec.rounds && spec.panelId ? transitionTable(data, spec.outcome, spec.rounds, spec.panelId) : [],
+        farmMeans
+      }
+    : null
+  res.checks = spec.checks?.linkTest || spec.checks?.hetero?.length ? runChecks(work, s) : null
+  return res
+}
+
+/** Link test and heteroskedastic probit on the pooled (unweighted or weighted) fit. */
+function runChecks(data: DataInput, spec: ModelSpec): ChecksResults {
+  const design = buildDesign(data, spec)
+  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations })
+  const hetero = spec.checks?.hetero?.length
+    ? (() => {
+        if ((spec.link ?? 'probit') !== 'probit') throw new EngineInputError('invalid_spec', 'the heteroskedasticity test is for the probit link')
+        const h = fitHeteroProbit(design, spec.checks!.hetero!)
+        return { varianceTerms: h.varianceTerms, variance: h.variance, loglik: h.loglik, probitLoglik: h.probitLoglik, lrTest: h.lrTest, converged: h.converged, reading: h.reading }
+      })()
+    : null
+  return { linkTest: spec.checks?.linkTest ? linkTest(design, fit) : null, hetero }
+}
+
+function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment): ModelResults {
   if (treatment !== 'cluster' && treatment !== 'survey') throw new EngineInputError('invalid_spec', `unknown village treatment '${String(treatment)}'`)
   if (treatment === 'survey' && !spec.weights) throw new EngineInputError('invalid_spec', 'a survey design needs the probability weights column')
   if (treatment !== 'survey' && (spec.strata || spec.fpc)) throw new EngineInputError('invalid_spec', 'strata and fpc belong to the survey design; choose it as the village treatment')

@@ -87,6 +87,51 @@ export interface ModelSpec {
   strata?: string
   /** Survey design: finite-population correction column (PSUs in the stratum, or a sampling fraction < 1). */
   fpc?: string
+  /** Several rounds: the round column, added as round effects (a categorical covariate). */
+  rounds?: string
+  /**
+   * Farm id for farms seen in several rounds: with `rounds`, the adoption transitions;
+   * with villageTreatment 'random-intercept', a FARM random intercept with the farm means
+   * of the time-varying covariates (correlated random effects).
+   */
+  panelId?: string
+  /** Model checks to run with the fit. */
+  checks?: { linkTest?: boolean, hetero?: string[] }
+}
+
+export interface RoundTransition {
+  from: string
+  to: string
+  farmsInBoth: number
+  stayedNon: number
+  adopted: number
+  disAdopted: number
+  stayedAdopter: number
+  /** adopted / (adopted + stayedNon); null when no non-adopter was seen in both. */
+  adoptionRate: number | null
+  /** disAdopted / (disAdopted + stayedAdopter). */
+  disAdoptionRate: number | null
+}
+
+export interface RoundsResults {
+  column: string | null
+  panelId: string | null
+  transitions: RoundTransition[]
+  /** Covariates whose farm means were added (correlated random effects). */
+  farmMeans: string[]
+}
+
+export interface ChecksResults {
+  linkTest: { index: Estimate, indexSquared: Estimate, reading: string } | null
+  hetero: {
+    varianceTerms: string[]
+    variance: CoefficientRow[]
+    loglik: number
+    probitLoglik: number
+    lrTest: { statistic: number, df: number, p: number }
+    converged: boolean
+    reading: string
+  } | null
 }
 
 export type VillageTreatment = 'cluster' | 'random-intercept' | 'survey'
@@ -264,6 +309,10 @@ export interface ModelResults {
   randomIntercept?: RandomInterceptResults | null
   /** Survey design only. */
   survey?: SurveyResults | null
+  /** Several rounds only. */
+  rounds?: RoundsResults | null
+  /** Link test / heteroskedasticity test, when asked for. */
+  checks?: ChecksResults | null
 }
 
 /** Predicted village effect (index scale) of the random-intercept model. */

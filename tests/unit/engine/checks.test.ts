@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { buildDesign, fitBinary, fitHeteroProbit, linkTest, type Design, type LinkName } from '../../../shared/utils/stats/index'
+import { buildDesign, fitBinary, fitHeteroProbit, linkTest, runModel, type Design, type LinkName } from '../../../shared/utils/stats/index'
 import { normal, prng } from '../../../shared/utils/random/prng'
 import { FIXTURES, readCsv, relErr } from './helpers'
 
@@ -111,5 +111,17 @@ describe('heteroskedastic probit vs an optim() MLE in R', () => {
     const none = fitHeteroProbit(cases[1]!.design, ['x1'])
     expect(none.lrTest.p).toBeGreaterThan(0.05)
     expect(none.reading).toMatch(/No evidence/)
+  })
+})
+
+describe('checks in the results object', () => {
+  it('runModel returns the link test and the heteroskedasticity test when asked', () => {
+    const d = cases[0]!.design
+    const rows = Array.from({ length: d.n }, (_, i) => ({ y: d.y[i]!, x1: d.X[i * d.k + 1]!, x2: d.X[i * d.k + 2]!, x3: d.X[i * d.k + 3]! }))
+    const res = runModel(rows, { outcome: 'y', covariates: [{ name: 'x1' }, { name: 'x2' }, { name: 'x3', type: 'yesno' }], checks: { linkTest: true, hetero: ['x1'] } })
+    expect(res.checks!.linkTest!.indexSquared.se).not.toBeNull()
+    expect(res.checks!.hetero!.lrTest.df).toBe(1)
+    expect(res.checks!.hetero!.reading).toMatch(/variance changes with x1/)
+    expect(() => runModel(rows, { outcome: 'y', covariates: [{ name: 'x1' }], link: 'logit', checks: { hetero: ['x1'] } })).toThrow(/probit/)
   })
 })
