@@ -4,6 +4,10 @@
  *   npm run fit -- FILE.csv --outcome COL [--covariates a,b,c] [--categorical c]
  *     [--link probit|logit|cloglog|cauchit] [--se conventional|robust|hc1|cluster:COL]
  *     [--weights COL] [--margins ame|mem] [--json]
+ *     [--random-intercept COL [--quad-points N]]            village random intercept
+ *     [--strata COL] [--psu COL] [--fpc COL] (with --weights) survey design
+ *     [--rounds COL] [--panel-id COL]                        several rounds (CRE with --random-intercept)
+ *     [--hetero a,b] [--link-test]                           model checks
  *
  * Without --covariates every other column is used (except weights, cluster and an unnamed
  * row-number column). Text columns with two yes/no (or true/false) values become yes/no
@@ -25,10 +29,24 @@ interface Args {
   weights: string | null
   margins: 'ame' | 'mem'
   json: boolean
+  model: ModelArgs
+}
+
+/** Options for the village treatment, rounds and checks (see the usage above). */
+interface ModelArgs {
+  randomIntercept?: string
+  quadPoints?: number
+  strata?: string
+  psu?: string
+  fpc?: string
+  rounds?: string
+  panelId?: string
+  hetero?: string[]
+  linkTest?: boolean
 }
 
 function parseArgs(argv: string[]): Args {
-  const a: Partial<Args> & { categorical: string[] } = { categorical: [], json: false }
+  const a: Partial<Args> & { categorical: string[], model: ModelArgs } = { categorical: [], json: false, model: {} }
   const rest: string[] = []
   for (let i = 0; i < argv.length; i++) {
     const arg = argv[i]!
@@ -63,6 +81,36 @@ function parseArgs(argv: string[]): Args {
       case '--json':
         a.json = true
         break
+      case '--random-intercept':
+        a.model.randomIntercept = value()
+        break
+      case '--quad-points': {
+        const q = Number(value())
+        if (!Number.isInteger(q) || q < 1 || q > 100) throw new UsageError('--quad-points must be a whole number from 1 to 100')
+        a.model.quadPoints = q
+        break
+      }
+      case '--strata':
+        a.model.strata = value()
+        break
+      case '--psu':
+        a.model.psu = value()
+        break
+      case '--fpc':
+        a.model.fpc = value()
+        break
+      case '--rounds':
+        a.model.rounds = value()
+        break
+      case '--panel-id':
+        a.model.panelId = value()
+        break
+      case '--hetero':
+        a.model.hetero = list()
+        break
+      case '--link-test':
+        a.model.linkTest = true
+        break
       default:
         if (arg.startsWith('--')) throw new UsageError(`unknown option ${arg}`)
         rest.push(arg)
@@ -76,7 +124,7 @@ function parseArgs(argv: string[]): Args {
   if (margins !== 'ame' && margins !== 'mem') throw new UsageError(`--margins must be ame or mem (got '${String(margins)}')`)
   return {
     file: rest[0]!, outcome: a.outcome, covariates: a.covariates ?? null, categorical: a.categorical,
-    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json
+    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json, model: a.model
   }
 }
 
@@ -148,7 +196,15 @@ function buildSpec(args: Args, header: string[], columns: Record<string, Array<s
   else throw new UsageError(`--se must be conventional, robust, hc1 or cluster:COL (got '${args.se}')`)
   if (args.weights) need(args.weights, 'weights')
   for (const c of args.categorical) need(c, 'categorical')
-  const names = args.covariates ?? header.filter(h => h !== '' && h !== args.outcome && h !== args.weights && h !== cluster)
+  const m = args.model
+  if (m.quadPoints !== undefined && !m.randomIntercept) throw new UsageError('--quad-points goes with --random-intercept')
+  if ((m.strata || m.psu || m.fpc) && !args.weights) throw new UsageError('a survey design (--strata, --psu, --fpc) needs --weights')
+  if (m.randomIntercept && (m.strata || m.psu || m.fpc)) throw new UsageError('choose either --random-intercept or a survey design, not both')
+  for (const [c, role] of [[m.randomIntercept, 'random intercept'], [m.strata, 'strata'], [m.psu, 'psu'], [m.fpc, 'fpc'], [m.rounds, 'rounds'], [m.panelId, 'panel id']] as const) {
+    if (c) need(c, role)
+  }
+  const roles = new Set([args.outcome, args.weights, cluster, m.randomIntercept, m.strata, m.psu, m.fpc, m.rounds, m.panelId])
+  const names = args.covariates ?? header.filter(h => h !== '' && !roles.has(h))
   for (const c of names) need(c, 'covariate')
   if (!names.length) throw new UsageError('no covariates to use')
   const covariates: CovariateSpec[] = names.map((name) => {
@@ -159,7 +215,13 @@ function buildSpec(args: Args, header: string[], columns: Record<string, Array<s
     if (distinct.size <= 2 && [...distinct].every(v => toYesNo(v) !== null)) return { name, type: 'yesno' }
     throw new UsageError(`column '${name}' holds text; list it in --categorical to use it as categories`)
   })
-  return { outcome: args.outcome, covariates, link: args.link, se, cluster, weights: args.weights ?? undefined, margins: args.margins }
+  const survey = Boolean(m.strata || m.psu || m.fpc)
+  return {
+    outcome: args.outcome, covariates, link: args.link, se, cluster: m.randomIntercept ?? m.psu ?? cluster, weights: args.weights ?? undefined, margins: args.margins,
+    villageTreatment: m.randomIntercept ? 'random-intercept' : survey ? 'survey' : undefined,
+    quadPoints: m.quadPoints, strata: m.strata, fpc: m.fpc, rounds: m.rounds, panelId: m.panelId,
+    checks: m.hetero || m.linkTest ? { hetero: m.hetero, linkTest: m.linkTest } : undefined
+  }
 }
 
 function fmt(x: number | null, digits = 4): string {
@@ -181,7 +243,12 @@ function table(head: string[], rows: string[][]): string {
 
 function report(res: ModelResults, file: string): string {
   const f = res.fit
-  const se = { conventional: 'model-based', hc0: 'robust (HC0)', hc1: 'robust (HC1, N/(N−K))', cluster: `clustered by ${res.cluster} (${res.covariance.clusters} groups)` }[res.covariance.type]
+  const se = res.villageTreatment === 'random-intercept'
+    ? `model-based, with a random intercept for ${res.cluster} (${res.covariance.clusters} groups)`
+    : {
+        conventional: 'model-based', hc0: 'robust (HC0)', hc1: 'robust (HC1, N/(N−K))', cluster: `clustered by ${res.cluster} (${res.covariance.clusters} groups)`,
+        survey: `survey design (linearisation; ${res.survey?.psuCount} PSUs in ${res.survey?.strataCount} strata, ${res.survey?.df} design df)`
+      }[res.covariance.type]
   const out: string[] = []
   out.push(`Adoption model for '${res.outcome.label}' — ${res.link} link — ${file}`)
   out.push(`Farms used: ${res.rows.used} of ${res.rows.totalRows}${res.rows.dropped ? ` (${res.rows.dropped} set aside for missing values)` : ''}; standard errors: ${se}`)
@@ -208,6 +275,7 @@ function report(res: ModelResults, file: string): string {
   out.push(`  at cut-off ${c.cutoff}: ${fmt(100 * c.shareCorrect, 1)}% classified correctly (sensitivity ${c.sensitivity === null ? '—' : fmt(100 * c.sensitivity, 1)}%, specificity ${c.specificity === null ? '—' : fmt(100 * c.specificity, 1)}%)`)
   if (res.hosmerLemeshow) out.push(`  Hosmer–Lemeshow over ${res.hosmerLemeshow.groups.length} groups: ${fmt(res.hosmerLemeshow.statistic, 2)} on ${res.hosmerLemeshow.df} df, p ${pfmt(res.hosmerLemeshow.p)}`)
   out.push('')
+  out.push(...modelSections(res))
   if (res.warnings.length) {
     out.push('Points to check')
     for (const w of res.warnings) out.push(`  • [${w.code}] ${w.message}`)
@@ -215,6 +283,39 @@ function report(res: ModelResults, file: string): string {
   }
   out.push('Caution: these are associations in the recorded farms, not causal effects of the covariates on adoption.')
   return out.join('\n')
+}
+
+/** Lines for what the village treatment, rounds and checks add. */
+function modelSections(res: ModelResults): string[] {
+  const out: string[] = []
+  const ri = res.randomIntercept
+  if (ri) {
+    out.push(`Village random intercept (${ri.quadPoints}-point adaptive quadrature)`)
+    out.push(`  σ (SD of the village effect on the index) ${fmt(ri.sigma.estimate)} (std.err ${fmt(ri.sigma.se)}); share of latent variation between groups ρ ${fmt(ri.rho.estimate)}`)
+    out.push(`  LR test of σ = 0: ${fmt(ri.lrTest.statistic, 2)}, p ${pfmt(ri.lrTest.p)} (half χ²₁, σ = 0 is on the boundary). ${ri.lrTest.reading}`)
+    out.push(`  With ${ri.quadratureCheck.points} points the estimates move by at most ${fmt(ri.quadratureCheck.maxChangeInSe, 2)} standard errors${ri.quadratureCheck.stable ? '' : ' — use more points'}`)
+    out.push('')
+  }
+  const sv = res.survey
+  if (sv) {
+    out.push(`Survey design: design-based Wald test of all slopes F = ${fmt(sv.wald.statistic, 2)} on (${sv.wald.numDf}, ${sv.wald.denDf}) df, p ${pfmt(sv.wald.p)}; the z column above is t on ${sv.df} df`)
+    out.push(`  ${sv.note}`)
+    out.push('')
+  }
+  const rd = res.rounds
+  if (rd?.transitions.length) {
+    out.push('Adoption between rounds (farms seen in both)')
+    out.push(table(['rounds', 'farms', 'stayed non', 'adopted', 'dis-adopted', 'stayed adopter'], rd.transitions.map(t => [
+      `${t.from} → ${t.to}`, String(t.farmsInBoth), String(t.stayedNon), String(t.adopted), String(t.disAdopted), String(t.stayedAdopter)
+    ])))
+    out.push('')
+  }
+  if (rd?.farmMeans.length) out.push(`Farm means added for: ${rd.farmMeans.join(', ')} (correlated random effects)`, '')
+  const ch = res.checks
+  if (ch?.linkTest) out.push(`Link test: squared index ${fmt(ch.linkTest.indexSquared.estimate)} (p ${pfmt(ch.linkTest.indexSquared.p)}). ${ch.linkTest.reading}`)
+  if (ch?.hetero) out.push(`Heteroskedasticity: LR ${fmt(ch.hetero.lrTest.statistic, 2)} on ${ch.hetero.lrTest.df} df, p ${pfmt(ch.hetero.lrTest.p)}. ${ch.hetero.reading}`)
+  if (ch) out.push('')
+  return out
 }
 
 function main(): void {
