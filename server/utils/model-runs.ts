@@ -24,13 +24,16 @@ export async function previewModel(user: SignedInUser, request: ModelRequest) {
   const spec = specOrBadRequest(request, data)
   let rows = { totalRows: data.rows.length, used: 0, dropped: 0, byVariable: [] as Array<{ variable: string, label: string, count: number }> }
   let problem: string | null = null
+  let villages = 0
   try {
-    rows = buildDesign(columnsFor(spec, data.rows), spec).rows
+    const design = buildDesign(columnsFor(spec, data.rows), spec)
+    rows = design.rows
+    villages = design.clusterLabels.length
   }
   catch (error) {
     problem = error instanceof Error ? error.message : String(error)
   }
-  return { equation: equationText(spec), rows, excluded: data.excluded, problem }
+  return { equation: equationText(spec), rows, excluded: data.excluded, problem, villages }
 }
 
 async function fitAndStore(run: ModelRun, spec: ModelSpec, data: RoundModelData) {
