@@ -123,5 +123,5 @@ describe('checks in the results object', () => {
     expect(res.checks!.hetero!.lrTest.df).toBe(1)
     expect(res.checks!.hetero!.reading).toMatch(/variance changes with x1/)
     expect(() => runModel(rows, { outcome: 'y', covariates: [{ name: 'x1' }], link: 'logit', checks: { hetero: ['x1'] } })).toThrow(/probit/)
-  })
+  }, 60_000)
 })

@@ -52,4 +52,28 @@ describe('scripts/fit.ts', () => {
     expect(cases[0]!.stderr).toContain('nosuchcolumn')
     expect(cases[1]!.stderr).toContain('must be 0/1')
   })
+
+  it('fits a village random intercept, a survey design and the checks from flags, all in --json', () => {
+    const cbpp = `${FIXTURES}reference/cbpp-herds.csv`
+    const ri = run(cbpp, '--outcome', 'y', '--categorical', 'period', '--random-intercept', 'herd', '--quad-points', '8', '--link', 'logit', '--json')
+    expect(ri.status, ri.stderr).toBe(0)
+    const a = JSON.parse(ri.stdout)
+    expect(a.villageTreatment).toBe('random-intercept')
+    expect(a.randomIntercept.quadPoints).toBe(8)
+    expect(a.randomIntercept.lrTest.p).toBeLessThan(0.01)
+    expect(a.villages).toHaveLength(15)
+    const api = `${FIXTURES}reference/api-strat.csv`
+    const sv = run(api, '--outcome', 'sch_wide', '--covariates', 'ell,meals', '--weights', 'pw', '--strata', 'stype', '--fpc', 'fpc', '--link-test', '--hetero', 'meals', '--json')
+    expect(sv.status, sv.stderr).toBe(0)
+    const b = JSON.parse(sv.stdout)
+    expect(b.survey.df).toBe(197)
+    expect(b.covariance.type).toBe('survey')
+    expect(b.checks.linkTest.reading).toMatch(/squared index/)
+    expect(b.checks.hetero.lrTest.df).toBe(1)
+    const text = run(api, '--outcome', 'sch_wide', '--covariates', 'ell,meals', '--weights', 'pw', '--strata', 'stype')
+    expect(text.stdout).toContain('design df')
+    const bad = run(api, '--outcome', 'sch_wide', '--covariates', 'ell', '--strata', 'stype')
+    expect(bad.status).toBe(2)
+    expect(bad.stderr).toContain('--weights')
+  }, 180_000)
 })

@@ -156,14 +156,14 @@ describe('quadrature', () => {
     const res = runModel(rowsOf(c12.design), { outcome: 'y', covariates: covs(c12.design), cluster: 'village', villageTreatment: 'random-intercept' })
     expect(res.randomIntercept!.quadratureCheck.stable).toBe(true)
     expect(res.randomIntercept!.quadratureCheck.maxChangeInSe).toBeLessThan(0.01)
-  })
+  }, 120_000)
 
   it('with 2 points the check flags a change that 12 points do not have', () => {
     const c = cases[4]!
     const few = runModel(rowsOf(c.design), { outcome: 'y', covariates: covs(c.design), cluster: 'village', villageTreatment: 'random-intercept', quadPoints: 2 })
     const many = runModel(rowsOf(c.design), { outcome: 'y', covariates: covs(c.design), cluster: 'village', villageTreatment: 'random-intercept', quadPoints: 12 })
     expect(few.randomIntercept!.quadratureCheck.maxChangeInSe).toBeGreaterThan(many.randomIntercept!.quadratureCheck.maxChangeInSe)
-  })
+  }, 120_000)
 })
 
 function rowsOf(d: Design): Array<Record<string, number | string>> {
@@ -220,7 +220,7 @@ describe('what the random intercept adds to the results', () => {
     // x1's effect: β₁/√(1+σ²) · mean φ(η/√(1+σ²)), smaller than the conditional effect at u = 0.
     expect(m.effects[0]!.se).not.toBeNull()
     expect(Math.abs(m.effects[0]!.estimate)).toBeLessThan(Math.abs(pc.fit.theta[1]!) * 0.4)
-  })
+  }, 60_000)
 
   it('is plain JSON', () => {
     const copy = JSON.parse(JSON.stringify(res))
@@ -232,5 +232,5 @@ describe('what the random intercept adds to the results', () => {
     const rows = rowsOf(c.design).map(r => ({ ...r, w: 2 }))
     expect(() => runModel(rows, { outcome: 'y', covariates: covs(c.design), cluster: 'village', weights: 'w', villageTreatment: 'random-intercept' })).toThrow(/survey design/)
     expect(() => runModel(rows, { outcome: 'y', covariates: covs(c.design), cluster: 'village', villageTreatment: 'random-intercept', link: 'cloglog' })).toThrow(/probit and logit/)
-  })
+  }, 60_000)
 })

@@ -64,7 +64,7 @@ describe('correlated random effects and round effects', () => {
     expect(Math.abs(bx(cre) - 0.5)).toBeLessThan(3 * se)
     expect(bx(plain)).toBeGreaterThan(bx(cre))
     expect(cre.coefficients.find(c => c.term === 'round[3]')!.estimate).toBeGreaterThan(0.3)
-  })
+  }, 60_000)
 
   it('computes farm means from the rows as given', () => {
     const { data } = withFarmMeans(rows.slice(0, 6), { outcome: 'y', covariates: [{ name: 'x' }] }, 'farm')

@@ -159,7 +159,7 @@ describe('survey design in the results', () => {
     const scaled = c.rows.map(r => ({ ...r, w: Number(r.w) * 100 }))
     const again = runModel(scaled, { outcome: 'y', covariates: [{ name: 'x1' }, { name: 'x2' }], weights: 'w', cluster: 'village', strata: 'district', fpc: 'fpc', villageTreatment: 'survey' })
     again.coefficients.forEach((row, j) => expect(relErr(row.se!, c.results.coefficients[j]!.se!)).toBeLessThan(1e-9))
-  })
+  }, 60_000)
 
   it('refuses a stratum with one PSU and a survey without weights', () => {
     const rows = c.rows.filter(r => r.district !== 'd0' || r.village === 'v0')
