@@ -113,7 +113,7 @@ export function withFarmMeans(data: DataInput, spec: ModelSpec, panelId: string)
     const first = new Map<string, number>()
     let varies = false
     raw.forEach((v, i) => {
-      const f = farm[i]
+      const f = farm[i] ?? null
       if (f === null || isMissing(v)) return
       const x = toNumber(v, c.name, i)
       sum.set(f, (sum.get(f) ?? 0) + x)
