@@ -1,4 +1,4 @@
-/** The CLI as a subprocess: JSON output on a reference data set, and the exit-2 cases. */
+/** The CLI as a subprocess: JSON output on a reference data set, and the exit-2 cases. Each case starts tsx: generous timeouts for a loaded 2-core machine. */
 import { spawnSync } from 'node:child_process'
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
@@ -25,14 +25,14 @@ describe('scripts/fit.ts', () => {
     expect(res.margins.kind).toBe('ame')
     expect(typeof res.timings.fitMs).toBe('number')
     expect(res.converged).toBe(true)
-  })
+  }, 120_000)
 
   it('writes a text report with the caution line', () => {
     const r = run(mroz, '--outcome', 'inlf', '--covariates', 'educ,kidslt6', '--link', 'logit', '--se', 'robust')
     expect(r.status, r.stderr).toBe(0)
     expect(r.stdout).toContain('not causal effects')
     expect(r.stdout).toContain('logit')
-  })
+  }, 120_000)
 
   it('exits with 2 and one stderr line for an unknown column, a non-binary outcome, and a bad file', () => {
     const dir = mkdtempSync(join(tmpdir(), 'fc-cli-'))
@@ -51,7 +51,7 @@ describe('scripts/fit.ts', () => {
     }
     expect(cases[0]!.stderr).toContain('nosuchcolumn')
     expect(cases[1]!.stderr).toContain('must be 0/1')
-  })
+  }, 120_000)
 
   it('fits a village random intercept, a survey design and the checks from flags, all in --json', () => {
     const cbpp = `${FIXTURES}reference/cbpp-herds.csv`
