@@ -37,7 +37,7 @@ describe('the coordinator chooses how villages enter the model', () => {
     await expect.poll(() => page.getByText('Give each village its own adoption level').isVisible()).toBe(true)
     expect(await page.getByText(/beyond the farm characteristics/).isVisible()).toBe(true)
     await page.getByLabel(/Give each village its own adoption level/).check()
-    await expect.poll(() => page.getByLabel('Standard errors').count()).toBe(0)
+    await expect.poll(() => page.getByLabel('Standard errors', { exact: true }).count()).toBe(0)
     await page.getByLabel(/Follow the sampling plan/).check()
     await expect.poll(() => page.getByLabel('Sampling weights').isVisible()).toBe(true)
     await page.getByLabel(/Give each village its own adoption level/).check()
