@@ -39,7 +39,7 @@ describe('the coordinator chooses how villages enter the model', () => {
     await page.getByLabel(/Give each village its own adoption level/).check()
     await expect.poll(() => page.getByLabel('Standard errors', { exact: true }).count()).toBe(0)
     await page.getByLabel(/Follow the sampling plan/).check()
-    await expect.poll(() => page.getByLabel('Sampling weights').isVisible()).toBe(true)
+    await expect.poll(() => page.getByLabel('Sampling weights', { exact: true }).isVisible()).toBe(true)
     await page.getByLabel(/Give each village its own adoption level/).check()
     await expect.poll(() => page.getByTestId('model-preview').textContent(), { timeout: 15_000 }).toMatch(/accepted visits will be used/)
     // 24 villages in the demo round: no few-villages warning.
