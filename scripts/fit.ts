@@ -4,6 +4,10 @@
  *   npm run fit -- FILE.csv --outcome COL [--covariates a,b,c] [--categorical c]
  *     [--link probit|logit|cloglog|cauchit] [--se conventional|robust|hc1|cluster:COL]
  *     [--weights COL] [--margins ame|mem] [--separator ';'] [--decimal ,] [--json]
+ *     [--random-intercept COL [--quad-points N]]            village random intercept
+ *     [--strata COL] [--psu COL] [--fpc COL] (with --weights) survey design
+ *     [--rounds COL] [--panel-id COL]                        several rounds (CRE with --random-intercept)
+ *     [--hetero a,b] [--link-test]                           model checks
  *
  * Without --covariates every other column is used (except weights, cluster and an unnamed
  * row-number column). Text columns with two yes/no (or true/false) values become yes/no
@@ -33,10 +37,24 @@ interface Args {
   json: boolean
   separator: string | undefined
   decimal: string | undefined
+  model: ModelArgs
+}
+
+/** Options for the village treatment, rounds and checks (see the usage above). */
+interface ModelArgs {
+  randomIntercept?: string
+  quadPoints?: number
+  strata?: string
+  psu?: string
+  fpc?: string
+  rounds?: string
+  panelId?: string
+  hetero?: string[]
+  linkTest?: boolean
 }
 
 function parseArgs(argv: string[]): Args {
-  const a: Partial<Args> & { categorical: string[] } = { categorical: [], json: false }
+  const a: Partial<Args> & { categorical: string[], model: ModelArgs } = { categorical: [], json: false, model: {} }
   const rest: string[] = []
   for (let i = 0; i < argv.length; i++) {
     const arg = argv[i]!
@@ -77,6 +95,36 @@ function parseArgs(argv: string[]): Args {
       case '--decimal':
         a.decimal = value()
         break
+      case '--random-intercept':
+        a.model.randomIntercept = value()
+        break
+      case '--quad-points': {
+        const q = Number(value())
+        if (!Number.isInteger(q) || q < 1 || q > 100) throw new UsageError('--quad-points must be a whole number from 1 to 100')
+        a.model.quadPoints = q
+        break
+      }
+      case '--strata':
+        a.model.strata = value()
+        break
+      case '--psu':
+        a.model.psu = value()
+        break
+      case '--fpc':
+        a.model.fpc = value()
+        break
+      case '--rounds':
+        a.model.rounds = value()
+        break
+      case '--panel-id':
+        a.model.panelId = value()
+        break
+      case '--hetero':
+        a.model.hetero = list()
+        break
+      case '--link-test':
+        a.model.linkTest = true
+        break
       default:
         if (arg.startsWith('--')) throw new UsageError(`unknown option ${arg}`)
         rest.push(arg)
@@ -90,7 +138,7 @@ function parseArgs(argv: string[]): Args {
   if (margins !== 'ame' && margins !== 'mem') throw new UsageError(`--margins must be ame or mem (got '${String(margins)}')`)
   return {
     file: rest[0]!, outcome: a.outcome, covariates: a.covariates ?? null, categorical: a.categorical,
-    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json, separator: a.separator, decimal: a.decimal
+    link, se: a.se ?? 'conventional', weights: a.weights ?? null, margins, json: a.json, separator: a.separator, decimal: a.decimal, model: a.model
   }
 }
 
@@ -141,7 +189,15 @@ function buildSpec(args: Args, table: CsvTable): { spec: ModelSpec, used: Set<st
   else throw new UsageError(`--se must be conventional, robust, hc1 or cluster:COL (got '${args.se}')`)
   if (args.weights) need(args.weights, 'weights')
   for (const c of args.categorical) need(c, 'categorical')
-  const names = args.covariates ?? header.filter(h => h !== '' && h !== args.outcome && h !== args.weights && h !== cluster)
+  const m = args.model
+  if (m.quadPoints !== undefined && !m.randomIntercept) throw new UsageError('--quad-points goes with --random-intercept')
+  if ((m.strata || m.psu || m.fpc) && !args.weights) throw new UsageError('a survey design (--strata, --psu, --fpc) needs --weights')
+  if (m.randomIntercept && (m.strata || m.psu || m.fpc)) throw new UsageError('choose either --random-intercept or a survey design, not both')
+  for (const [c, role] of [[m.randomIntercept, 'random intercept'], [m.strata, 'strata'], [m.psu, 'psu'], [m.fpc, 'fpc'], [m.rounds, 'rounds'], [m.panelId, 'panel id']] as const) {
+    if (c) need(c, role)
+  }
+  const roles = new Set([args.outcome, args.weights, cluster, m.randomIntercept, m.strata, m.psu, m.fpc, m.rounds, m.panelId])
+  const names = args.covariates ?? header.filter(h => h !== '' && !roles.has(h))
   for (const c of names) need(c, 'covariate')
   if (!names.length) throw new UsageError('no covariates to use')
   const decimal = args.decimal ?? '.'
@@ -162,8 +218,18 @@ function buildSpec(args: Args, table: CsvTable): { spec: ModelSpec, used: Set<st
     const col = byName.get(args.weights)!
     if (col.text) throw notDecimal(table, col, decimal)
   }
-  const used = new Set<string>([args.outcome, ...names, ...(args.weights ? [args.weights] : []), ...(cluster ? [cluster] : [])])
-  return { spec: { outcome: args.outcome, covariates, link: args.link, se, cluster, weights: args.weights ?? undefined, margins: args.margins }, used }
+  const survey = Boolean(m.strata || m.psu || m.fpc)
+  const modelColumns = [m.randomIntercept, m.strata, m.psu, m.fpc, m.rounds, m.panelId].filter((c): c is string => Boolean(c))
+  const used = new Set<string>([args.outcome, ...names, ...(args.weights ? [args.weights] : []), ...(cluster ? [cluster] : []), ...modelColumns])
+  return {
+    spec: {
+      outcome: args.outcome, covariates, link: args.link, se, cluster: m.randomIntercept ?? m.psu ?? cluster, weights: args.weights ?? undefined, margins: args.margins,
+      villageTreatment: m.randomIntercept ? 'random-intercept' : survey ? 'survey' : undefined,
+      quadPoints: m.quadPoints, strata: m.strata, fpc: m.fpc, rounds: m.rounds, panelId: m.panelId,
+      checks: m.hetero || m.linkTest ? { hetero: m.hetero, linkTest: m.linkTest } : undefined
+    },
+    used
+  }
 }
 
 function fmt(x: number | null, digits = 4): string {
@@ -185,7 +251,12 @@ function table(head: string[], rows: string[][]): string {
 
 function report(res: ModelResults, file: string): string {
   const f = res.fit
-  const se = { conventional: 'model-based', hc0: 'robust (HC0)', hc1: 'robust (HC1, N/(N−K))', cluster: `clustered by ${res.cluster} (${res.covariance.clusters} groups)` }[res.covariance.type]
+  const se = res.villageTreatment === 'random-intercept'
+    ? `model-based, with a random intercept for ${res.cluster} (${res.covariance.clusters} groups)`
+    : {
+        conventional: 'model-based', hc0: 'robust (HC0)', hc1: 'robust (HC1, N/(N−K))', cluster: `clustered by ${res.cluster} (${res.covariance.clusters} groups)`,
+        survey: `survey design (linearisation; ${res.survey?.psuCount} PSUs in ${res.survey?.strataCount} strata, ${res.survey?.df} design df)`
+      }[res.covariance.type]
   const out: string[] = []
   out.push(`Adoption model for '${res.outcome.label}' — ${res.link} link — ${file}`)
   out.push(`Farms used: ${res.rows.used} of ${res.rows.totalRows}${res.rows.dropped ? ` (${res.rows.dropped} set aside for missing values)` : ''}; standard errors: ${se}`)
@@ -219,6 +290,7 @@ function report(res: ModelResults, file: string): string {
   out.push(`  at cut-off ${c.cutoff}: ${fmt(100 * c.shareCorrect, 1)}% classified correctly (sensitivity ${c.sensitivity === null ? '—' : fmt(100 * c.sensitivity, 1)}%, specificity ${c.specificity === null ? '—' : fmt(100 * c.specificity, 1)}%)`)
   if (res.hosmerLemeshow) out.push(`  Hosmer–Lemeshow over ${res.hosmerLemeshow.groups.length} groups: ${fmt(res.hosmerLemeshow.statistic, 2)} on ${res.hosmerLemeshow.df} df, p ${pfmt(res.hosmerLemeshow.p)}`)
   out.push('')
+  out.push(...modelSections(res))
   if (res.warnings.length) {
     out.push('Points to check')
     for (const w of res.warnings) out.push(`  • [${w.code}] ${w.message}`)
@@ -226,6 +298,39 @@ function report(res: ModelResults, file: string): string {
   }
   out.push('Caution: these are associations in the recorded farms, not causal effects of the covariates on adoption.')
   return out.join('\n')
+}
+
+/** Lines for what the village treatment, rounds and checks add. */
+function modelSections(res: ModelResults): string[] {
+  const out: string[] = []
+  const ri = res.randomIntercept
+  if (ri) {
+    out.push(`Village random intercept (${ri.quadPoints}-point adaptive quadrature)`)
+    out.push(`  σ (SD of the village effect on the index) ${fmt(ri.sigma.estimate)} (std.err ${fmt(ri.sigma.se)}); share of latent variation between groups ρ ${fmt(ri.rho.estimate)}`)
+    out.push(`  LR test of σ = 0: ${fmt(ri.lrTest.statistic, 2)}, p ${pfmt(ri.lrTest.p)} (half χ²₁, σ = 0 is on the boundary). ${ri.lrTest.reading}`)
+    out.push(`  With ${ri.quadratureCheck.points} points the estimates move by at most ${fmt(ri.quadratureCheck.maxChangeInSe, 2)} standard errors${ri.quadratureCheck.stable ? '' : ' — use more points'}`)
+    out.push('')
+  }
+  const sv = res.survey
+  if (sv) {
+    out.push(`Survey design: design-based Wald test of all slopes F = ${fmt(sv.wald.statistic, 2)} on (${sv.wald.numDf}, ${sv.wald.denDf}) df, p ${pfmt(sv.wald.p)}; the z column above is t on ${sv.df} df`)
+    out.push(`  ${sv.note}`)
+    out.push('')
+  }
+  const rd = res.rounds
+  if (rd?.transitions.length) {
+    out.push('Adoption between rounds (farms seen in both)')
+    out.push(table(['rounds', 'farms', 'stayed non', 'adopted', 'dis-adopted', 'stayed adopter'], rd.transitions.map(t => [
+      `${t.from} → ${t.to}`, String(t.farmsInBoth), String(t.stayedNon), String(t.adopted), String(t.disAdopted), String(t.stayedAdopter)
+    ])))
+    out.push('')
+  }
+  if (rd?.farmMeans.length) out.push(`Farm means added for: ${rd.farmMeans.join(', ')} (correlated random effects)`, '')
+  const ch = res.checks
+  if (ch?.linkTest) out.push(`Link test: squared index ${fmt(ch.linkTest.indexSquared.estimate)} (p ${pfmt(ch.linkTest.indexSquared.p)}). ${ch.linkTest.reading}`)
+  if (ch?.hetero) out.push(`Heteroskedasticity: LR ${fmt(ch.hetero.lrTest.statistic, 2)} on ${ch.hetero.lrTest.df} df, p ${pfmt(ch.hetero.lrTest.p)}. ${ch.hetero.reading}`)
+  if (ch) out.push('')
+  return out
 }
 
 async function main(): Promise<void> {

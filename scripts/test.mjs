@@ -12,6 +12,13 @@ ensureDebianPackage('chromium', () => existsSync('/usr/bin/chromium'), 'the brow
 ensureDebianPackage('python3-statsmodels', () => spawnSync('/usr/bin/python3', ['-c', 'import statsmodels'], { stdio: 'ignore' }).status === 0, 'the engine\'s reference comparison')
 ensureDebianPackage('mariadb-backup', () => Boolean(findExecutable('mariadb-backup')), 'the backup and restore test')
 
+// R with lme4 (random intercept), survey (survey design) and jsonlite: the outside references the engine tests run.
+const rHas = pkg => () => spawnSync('Rscript', ['-e', `suppressPackageStartupMessages(library(${pkg}))`], { stdio: 'ignore' }).status === 0
+ensureDebianPackage('r-base-core', () => spawnSync('Rscript', ['--version'], { stdio: 'ignore' }).status === 0, 'the engine\'s R reference comparisons')
+ensureDebianPackage('r-cran-lme4', rHas('lme4'), 'the random-intercept reference comparison')
+ensureDebianPackage('r-cran-survey', rHas('survey'), 'the survey-design reference comparison')
+ensureDebianPackage('r-cran-jsonlite', rHas('jsonlite'), 'the engine\'s R reference comparisons')
+
 const results = []
 function stage(name, command, args, env) {
   say(`── ${name}`)

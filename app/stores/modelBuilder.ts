@@ -8,6 +8,9 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
   const link = ref<'probit' | 'logit' | 'cloglog' | 'cauchit'>('probit')
   const se = ref<'cluster' | 'conventional' | 'hc1'>('cluster')
   const margins = ref<'ame' | 'mem'>('ame')
+  const villages = ref<'cluster' | 'random-intercept' | 'survey'>('cluster')
+  // Only the sampling plan uses weights; the question is picked when that plan is chosen.
+  const weights = ref<string>('')
 
   function toggle(key: string, on: boolean) {
     covariates.value = on
@@ -32,7 +35,10 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
 
   const request = computed<ModelRequestInput | null>(() => roundId.value === null
     ? null
-    : { roundId: roundId.value, covariates: covariates.value, interactions: interactions.value, link: link.value, se: se.value, margins: margins.value })
+    : {
+        roundId: roundId.value, covariates: covariates.value, interactions: interactions.value, link: link.value, se: se.value, margins: margins.value,
+        villages: villages.value, ...(villages.value === 'survey' && weights.value ? { weights: weights.value } : {})
+      })
 
-  return { roundId, covariates, interactions, link, se, margins, toggle, choice, update, reset, request }
+  return { roundId, covariates, interactions, link, se, margins, villages, weights, toggle, choice, update, reset, request }
 })

@@ -23,5 +23,5 @@ export function stars(p: number | null | undefined): string {
 
 /** How the standard errors of a run were computed, in words. */
 export function seLabelOf(type: string | undefined): string {
-  return ({ cluster: 'clustered by village', conventional: 'conventional', hc0: 'robust (HC0)', hc1: 'robust (HC1)' } as Record<string, string>)[type ?? ''] ?? ''
+  return ({ cluster: 'clustered by village', conventional: 'conventional', hc0: 'robust (HC0)', hc1: 'robust (HC1)', survey: 'from the sampling plan' } as Record<string, string>)[type ?? ''] ?? ''
 }

@@ -25,13 +25,16 @@ export async function previewModel(user: SignedInUser, request: ModelRequest) {
   const data = await loadRoundColumns(request.roundId, user.organisationId, spec)
   let rows = { totalRows: data.rowCount, used: 0, dropped: 0, byVariable: [] as Array<{ variable: string, label: string, count: number }> }
   let problem: string | null = null
+  let villages = 0
   try {
-    rows = buildDesign(data.columns, spec).rows
+    const design = buildDesign(data.columns, spec)
+    rows = design.rows
+    villages = design.clusterLabels.length
   }
   catch (error) {
     problem = error instanceof Error ? error.message : String(error)
   }
-  return { equation: equationText(spec), rows, excluded: data.excluded, problem }
+  return { equation: equationText(spec), rows, excluded: data.excluded, problem, villages }
 }
 
 /** Reads the rows (in the background: the request has been answered) and fits them in a worker thread. */

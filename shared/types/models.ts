@@ -37,4 +37,6 @@ export interface ModelPreview {
   rows: { totalRows: number, used: number, dropped: number, byVariable: Array<{ variable: string, label: string, count: number }> }
   excluded: { notAccepted: Record<string, number> }
   problem: string | null
+  /** Villages among the visits used. */
+  villages: number
 }

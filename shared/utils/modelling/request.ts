@@ -28,6 +28,27 @@ export const SE_LABELS: Record<typeof SE_CHOICES[number], string> = {
   hc1: 'Robust to heteroskedasticity (HC1)'
 }
 
+export const VILLAGE_CHOICES = ['cluster', 'random-intercept', 'survey'] as const
+
+/** How villages enter the model, with the one-sentence explanation the builder shows. */
+export const VILLAGE_LABELS: Record<typeof VILLAGE_CHOICES[number], { label: string, explain: string }> = {
+  'cluster': {
+    label: 'Allow for villages in the standard errors',
+    explain: 'One model for all farms; standard errors allow farms in the same village to be alike (the usual choice).'
+  },
+  'random-intercept': {
+    label: 'Give each village its own adoption level',
+    explain: 'Adds a village random effect: shows how much adoption differs between villages beyond the farm characteristics, and predicts each village from its own farms and the others (probit or logit only).'
+  },
+  'survey': {
+    label: 'Follow the sampling plan',
+    explain: 'Villages as the sampled units and the sampling weights from a number question: results describe the whole population the sample was drawn from.'
+  }
+}
+
+/** Fewer villages than this make village-level statistics unreliable; the builder warns (common practice). */
+export const FEW_VILLAGES = 20
+
 /** What a coordinator chooses in the model builder; the server turns it into an engine specification. */
 export const modelRequestSchema = z.object({
   roundId: z.coerce.number().int().positive(),
@@ -36,8 +57,13 @@ export const modelRequestSchema = z.object({
   link: z.enum(LINK_CHOICES).default('probit'),
   se: z.enum(SE_CHOICES).default('cluster'),
   weights: key.optional(),
-  margins: z.enum(['ame', 'mem']).default('ame')
+  margins: z.enum(['ame', 'mem']).default('ame'),
+  villages: z.enum(VILLAGE_CHOICES).default('cluster')
 }).superRefine((request, ctx) => {
+  if (request.villages === 'survey' && !request.weights) ctx.addIssue({ code: 'custom', path: ['weights'], message: 'The sampling plan needs the question that holds the sampling weights' })
+  if (request.villages === 'random-intercept' && request.link !== 'probit' && request.link !== 'logit') {
+    ctx.addIssue({ code: 'custom', path: ['link'], message: 'Village adoption levels are available with the probit or logit only' })
+  }
   const keys = request.covariates.map(c => c.key)
   if (new Set(keys).size !== keys.length) ctx.addIssue({ code: 'custom', path: ['covariates'], message: 'A characteristic is chosen twice' })
   request.interactions.forEach(([a, b], i) => {

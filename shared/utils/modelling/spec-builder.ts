@@ -47,7 +47,8 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
     link: request.link,
     weights: request.weights,
     cluster: VILLAGE_COLUMN,
-    se: request.se,
+    se: request.villages === 'cluster' ? request.se : undefined,
+    ...(request.villages && request.villages !== 'cluster' ? { villageTreatment: request.villages } : {}),
     margins: request.margins,
     bothMargins: true
   }

@@ -23,7 +23,7 @@ import type { ParallelPasses } from './parallel'
 import { quadForm } from './linalg'
 import { getLink, type Link } from './links'
 import { makeEstimate } from './summary'
-import type { MarginalEffect, Margins, MarginsKind } from './types'
+import type { Estimate, MarginalEffect, Margins, MarginsKind } from './types'
 import { toLevel, toYesNo } from './values'
 
 /** One effect to compute: a derivative w.r.t. a numeric covariate or a discrete change. */
@@ -94,7 +94,7 @@ function dot(a: Float64Array, b: Float64Array, k: number): number {
 
 /** Effect values and Jacobians at a set of rows (all design rows) or at one profile. */
 function accumulate(
-  design: Design, link: Link, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null, parallel: ParallelPasses | null = null
+  design: Design, link: Pick<Link, 'cdf' | 'pdf' | 'dpdf'>, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null, parallel: ParallelPasses | null = null
 ): { values: Float64Array, jac: Float64Array[] } {
   const k = design.k
   const m = effects.length
@@ -122,7 +122,7 @@ function accumulate(
  * and `jac`; returns the sum of weights. Ranges can run on separate threads and be summed.
  */
 export function accumulateRange(
-  design: Design, link: Link, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null,
+  design: Design, link: Pick<Link, 'cdf' | 'pdf' | 'dpdf'>, b: Float64Array, effects: EffectPlan[], profileAt: Profile | null,
   start: number, end: number, values: Float64Array, jac: Float64Array[]
 ): number {
   const { k, X, w, plan } = design
@@ -239,7 +239,33 @@ export interface MarginsOptions {
 
 export function marginalEffects(design: Design, fit: FitResult, cov: Covariance, options: MarginsOptions = {}): Margins {
   const kind = options.kind ?? 'ame'
-  const link = getLink(fit.link)
+  const { effects, values, jac } = marginValues(design, getLink(fit.link), fit.coef, options)
+  const k = design.k
+  const out: MarginalEffect[] = effects.map((ef, e) => ({
+    ...effectIdentity(design, ef),
+    ...makeEstimate(values[e]!, cov.V ? quadForm(cov.V, jac[e]!, k) : null)
+  }))
+  return { kind, covariance: cov.type, ...(kind === 'at' ? { at: { ...options.at } } : {}), effects: out }
+}
+
+/** Covariate, label, kind and levels of one effect, as the results show them. */
+export function effectIdentity(design: Design, ef: EffectPlan): Omit<MarginalEffect, keyof Estimate> {
+  return {
+    covariate: design.plan.covariates[ef.covariate]!.name,
+    label: ef.label,
+    kind: ef.kind,
+    ...(ef.levelName !== undefined ? { level: ef.levelName, reference: ef.referenceName! } : {})
+  }
+}
+
+/**
+ * Effect values and their Jacobians ∂m/∂b' for any distribution function `link` (the
+ * village random-intercept model passes the population-averaged F* here).
+ */
+export function marginValues(
+  design: Design, link: Pick<Link, 'cdf' | 'pdf' | 'dpdf'>, b: Float64Array, options: MarginsOptions = {}
+): { effects: EffectPlan[], values: Float64Array, jac: Float64Array[] } {
+  const kind = options.kind ?? 'ame'
   const effects = planEffects(design)
   let profile: Profile | null = null
   if (kind !== 'ame') {
@@ -249,14 +275,8 @@ export function marginalEffects(design: Design, fit: FitResult, cov: Covariance,
       applyValues(design, profile, options.at)
     }
   }
-  const { values, jac } = accumulate(design, link, fit.coef, effects, profile, options.parallel ?? null)
-  const k = design.k
-  const out: MarginalEffect[] = effects.map((ef, e) => ({
-    covariate: design.plan.covariates[ef.covariate]!.name,
-    label: ef.label,
-    kind: ef.kind,
-    ...(ef.levelName !== undefined ? { level: ef.levelName, reference: ef.referenceName! } : {}),
-    ...makeEstimate(values[e]!, cov.V ? quadForm(cov.V, jac[e]!, k) : null)
-  }))
-  return { kind, covariance: cov.type, ...(kind === 'at' ? { at: { ...options.at } } : {}), effects: out }
+  // The threaded pass evaluates the fit's own link; callers passing another F (the random-intercept model's
+  // population-averaged one) pass no `parallel`.
+  const { values, jac } = accumulate(design, link, b, effects, profile, options.parallel ?? null)
+  return { effects, values, jac }
 }

@@ -13,8 +13,14 @@ import type { LinkName } from './links'
 import { marginalEffects } from './margins'
 import type { ParallelPasses } from './parallel'
 import { overallMean, predictProbabilities, scenario, villageMeans } from './predict'
+import { fitHeteroProbit } from './hetero-probit'
+import { linkTest } from './link-test'
+import { transitionTable, withFarmMeans, withRoundEffects } from './rounds'
+import { runRandomIntercept } from './run-random-intercept'
 import { coefficientTable, finiteOrNull, fitStatistics, waldAllSlopes } from './summary'
-import type { CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram } from './types'
+import { readSurveyColumns, surveyCovariance, type SurveyCovariance } from './survey'
+import { surveyCoefficientTable, surveySummary } from './survey-results'
+import type { ChecksResults, CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram, SurveyResults, VillageTreatment } from './types'
 import type { DataInput } from './values'
 
 export const ENGINE_VERSION = '1.1.0'
@@ -35,6 +41,11 @@ export function summariseCovariance(cov: Covariance, terms: string[]): Covarianc
   return { type: cov.type, factor: cov.factor, clusters: cov.clusters, terms, matrix }
 }
 
+/**
+ * The one entry point. `villageTreatment` chooses the family and the covariance:
+ * 'random-intercept' → run-random-intercept.ts; 'survey' → the pooled (weighted) fit with
+ * the design-based covariance of survey.ts; otherwise the pooled fit with `se`.
+ */
 export interface RunOptions {
   /**
    * Supplies passes split across threads for a design (see parallel.ts), or null to stay on one thread. The
@@ -44,15 +55,67 @@ export interface RunOptions {
 }
 
 export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions = {}): ModelResults {
+  const treatment = spec.villageTreatment ?? 'cluster'
+  let work: DataInput = data
+  let s = spec
+  let farmMeans: string[] = []
+  if (spec.rounds) s = withRoundEffects(s, data, spec.rounds)
+  if (spec.panelId && treatment === 'random-intercept') {
+    const fm = withFarmMeans(data, s, spec.panelId)
+    work = fm.data
+    s = { ...fm.spec, cluster: spec.panelId }
+    farmMeans = fm.meanOf
+  }
+  const res = treatment === 'random-intercept'
+    ? runRandomIntercept(work, s, ENGINE_VERSION, predictedHistogram)
+    : runPooled(work, s, treatment, options)
+  res.rounds = spec.rounds || spec.panelId
+    ? {
+        column: spec.rounds ?? null,
+        panelId: spec.panelId ?? null,
+        transitions: spec.rounds && spec.panelId ? transitionTable(data, spec.outcome, spec.rounds, spec.panelId) : [],
+        farmMeans
+      }
+    : null
+  res.checks = spec.checks?.linkTest || spec.checks?.hetero?.length ? runChecks(work, s) : null
+  return res
+}
+
+/** Link test and heteroskedastic probit on the pooled (unweighted or weighted) fit. */
+function runChecks(data: DataInput, spec: ModelSpec): ChecksResults {
+  const design = buildDesign(data, spec)
+  const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations })
+  const hetero = spec.checks?.hetero?.length
+    ? (() => {
+        if ((spec.link ?? 'probit') !== 'probit') throw new EngineInputError('invalid_spec', 'the heteroskedasticity test is for the probit link')
+        const h = fitHeteroProbit(design, spec.checks!.hetero!)
+        return { varianceTerms: h.varianceTerms, variance: h.variance, loglik: h.loglik, probitLoglik: h.probitLoglik, lrTest: h.lrTest, converged: h.converged, reading: h.reading }
+      })()
+    : null
+  return { linkTest: spec.checks?.linkTest ? linkTest(design, fit) : null, hetero }
+}
+
+function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment, options: RunOptions): ModelResults {
+  if (treatment !== 'cluster' && treatment !== 'survey') throw new EngineInputError('invalid_spec', `unknown village treatment '${String(treatment)}'`)
+  if (treatment === 'survey' && !spec.weights) throw new EngineInputError('invalid_spec', 'a survey design needs the probability weights column')
+  if (treatment !== 'survey' && (spec.strata || spec.fpc)) throw new EngineInputError('invalid_spec', 'strata and fpc belong to the survey design; choose it as the village treatment')
   const t0 = now()
   const design = buildDesign(data, spec)
   const t1 = now()
   const parallel = options.parallel?.(design, spec.link ?? 'probit') ?? null
   const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations, parallel })
   const t2 = now()
-  const seType = spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
-  const cov = computeCovariance(design, fit, seType, parallel)
-  const coefficients = coefficientTable(design, fit, cov)
+  let surveyCov: SurveyCovariance | null = null
+  let survey: SurveyResults | null = null
+  const seType = treatment === 'survey' ? 'survey' : spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
+  let cov: Covariance
+  if (treatment === 'survey') {
+    surveyCov = surveyCovariance(design, fit, readSurveyColumns(data, design, spec.strata, spec.fpc))
+    survey = surveySummary(design, fit.coef, surveyCov, { strata: spec.strata ?? null, psu: spec.cluster ?? null, fpc: spec.fpc ?? null })
+    cov = surveyCov
+  }
+  else cov = computeCovariance(design, fit, seType, parallel)
+  const coefficients = surveyCov ? surveyCoefficientTable(design, fit.coef, surveyCov) : coefficientTable(design, fit, cov)
   const fitStats = fitStatistics(design, fit)
   fitStats.wald = waldAllSlopes(fit, cov, design.n, design.w !== null)
   const p = predictProbabilities(design, fit)
@@ -79,6 +142,9 @@ export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions =
   const t5 = now()
 
   const warnings: EngineWarning[] = [...design.warnings, ...fit.warnings]
+  if (surveyCov && surveyCov.df < 30) {
+    warnings.push({ code: 'few_clusters', message: `only ${surveyCov.df} design degrees of freedom (PSUs − strata): intervals are wide and tests of many terms are unreliable` })
+  }
   if (design.w && seType === 'conventional') {
     warnings.push({
       code: 'weights_not_likelihood',
@@ -122,7 +188,10 @@ export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions =
       marginsMs: t4 - t3,
       predictionsMs: t5 - t4,
       totalMs: t5 - t0
-    }
+    },
+    villageTreatment: treatment,
+    randomIntercept: null,
+    survey
   }
 }
 

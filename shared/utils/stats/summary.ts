@@ -60,7 +60,7 @@ export function nullLogLikelihood(y: Float64Array, w: Float64Array | null): numb
  * loglik, loglikNull, LR χ² = 2(ℓ − ℓ₀) on K − 1 df, McFadden R² = 1 − ℓ/ℓ₀,
  * AIC = −2ℓ + 2K, BIC = −2ℓ + K ln N (N = rows used).
  */
-export function fitStatistics(design: Design, fit: FitResult): FitStatistics {
+export function fitStatistics(design: Design, fit: Pick<FitResult, 'loglik'>): FitStatistics {
   const { n, k, y, w } = design
   const ll0 = nullLogLikelihood(y, w)
   const ll = fit.loglik

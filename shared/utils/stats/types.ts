@@ -30,7 +30,7 @@ export interface CovariateSpec {
   levels?: string[]
 }
 
-export type CovarianceType = 'conventional' | 'hc0' | 'hc1' | 'cluster'
+export type CovarianceType = 'conventional' | 'hc0' | 'hc1' | 'cluster' | 'survey'
 
 export type MarginsKind = 'ame' | 'mem' | 'at'
 
@@ -74,7 +74,67 @@ export interface ModelSpec {
   maxIterations?: number
   /** Maximum number of ROC points kept in the results (AUC always uses all rows). Default 101. */
   rocPoints?: number
+  /**
+   * How villages (the `cluster` column) enter the model. 'cluster' (default): pooled fit with
+   * cluster-robust SEs; 'random-intercept': a village random intercept by adaptive quadrature;
+   * 'survey': design-based (linearisation) SEs with `cluster` as the primary sampling unit,
+   * optional `strata` and `fpc`, and `weights` as probability weights.
+   */
+  villageTreatment?: VillageTreatment
+  /** Random intercept: Gauss–Hermite points per village (default 12). */
+  quadPoints?: number
+  /** Survey design: stratum column. */
+  strata?: string
+  /** Survey design: finite-population correction column (PSUs in the stratum, or a sampling fraction < 1). */
+  fpc?: string
+  /** Several rounds: the round column, added as round effects (a categorical covariate). */
+  rounds?: string
+  /**
+   * Farm id for farms seen in several rounds: with `rounds`, the adoption transitions;
+   * with villageTreatment 'random-intercept', a FARM random intercept with the farm means
+   * of the time-varying covariates (correlated random effects).
+   */
+  panelId?: string
+  /** Model checks to run with the fit. */
+  checks?: { linkTest?: boolean, hetero?: string[] }
 }
+
+export interface RoundTransition {
+  from: string
+  to: string
+  farmsInBoth: number
+  stayedNon: number
+  adopted: number
+  disAdopted: number
+  stayedAdopter: number
+  /** adopted / (adopted + stayedNon); null when no non-adopter was seen in both. */
+  adoptionRate: number | null
+  /** disAdopted / (disAdopted + stayedAdopter). */
+  disAdoptionRate: number | null
+}
+
+export interface RoundsResults {
+  column: string | null
+  panelId: string | null
+  transitions: RoundTransition[]
+  /** Covariates whose farm means were added (correlated random effects). */
+  farmMeans: string[]
+}
+
+export interface ChecksResults {
+  linkTest: { index: Estimate, indexSquared: Estimate, reading: string } | null
+  hetero: {
+    varianceTerms: string[]
+    variance: CoefficientRow[]
+    loglik: number
+    probitLoglik: number
+    lrTest: { statistic: number, df: number, p: number }
+    converged: boolean
+    reading: string
+  } | null
+}
+
+export type VillageTreatment = 'cluster' | 'random-intercept' | 'survey'
 
 /** One Newton–Raphson iteration. */
 export interface IterationRecord {
@@ -262,4 +322,51 @@ export interface ModelResults {
   plan: DesignPlan
   /** Wall-clock times; the only field that differs between two runs on the same input. */
   timings: Timings
+  /** How villages entered the model (absent in results saved before this field existed: 'cluster'). */
+  villageTreatment?: VillageTreatment
+  /** Village random intercept only. */
+  randomIntercept?: RandomInterceptResults | null
+  /** Survey design only. */
+  survey?: SurveyResults | null
+  /** Several rounds only. */
+  rounds?: RoundsResults | null
+  /** Link test / heteroskedasticity test, when asked for. */
+  checks?: ChecksResults | null
+}
+
+/** Predicted village effect (index scale) of the random-intercept model. */
+export interface VillageEffect {
+  village: string
+  n: number
+  /** Conditional mode of the village effect σu_j (index scale). */
+  mode: number
+  /** Posterior mean of σu_j (empirical Bayes). */
+  mean: number
+  /** Posterior SD of σu_j. */
+  sd: number
+}
+
+export interface RandomInterceptResults {
+  quadPoints: number
+  /** SD of the village effect on the latent-index scale. */
+  sigma: Estimate
+  /** Latent intra-village correlation. */
+  rho: Estimate
+  lrTest: { statistic: number, df: 1, p: number, pooledLoglik: number, reading: string }
+  quadratureCheck: { points: number, loglikChange: number, maxChangeInSe: number, maxRelativeChange: number, stable: boolean }
+  villageEffects: VillageEffect[]
+}
+
+export interface SurveyResults {
+  strata: string | null
+  psu: string
+  fpc: string | null
+  strataCount: number
+  psuCount: number
+  /** Design degrees of freedom: PSUs − strata; intervals and tests use t (or F) on these. */
+  df: number
+  /** Wald test of all slopes, F form with the design df. */
+  wald: { statistic: number, numDf: number, denDf: number, p: number }
+  /** What likelihood-based figures mean here. */
+  note: string
 }

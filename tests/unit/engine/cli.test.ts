@@ -1,4 +1,4 @@
-/** The CLI as a subprocess: JSON output on a reference data set, and the exit-2 cases. */
+/** The CLI as a subprocess: JSON output on a reference data set, and the exit-2 cases. Each case starts tsx: generous timeouts for a loaded 2-core machine. */
 import { spawnSync } from 'node:child_process'
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
@@ -27,14 +27,14 @@ describe('scripts/fit.ts', { timeout: 120_000 }, () => {
     expect(res.margins.kind).toBe('ame')
     expect(typeof res.timings.fitMs).toBe('number')
     expect(res.converged).toBe(true)
-  })
+  }, 120_000)
 
   it('writes a text report with the caution line', () => {
     const r = run(mroz, '--outcome', 'inlf', '--covariates', 'educ,kidslt6', '--link', 'logit', '--se', 'robust')
     expect(r.status, r.stderr).toBe(0)
     expect(r.stdout).toContain('not causal effects')
     expect(r.stdout).toContain('logit')
-  })
+  }, 120_000)
 
   it('exits with 2 and one stderr line for an unknown column, a non-binary outcome, and a bad file', () => {
     const dir = mkdtempSync(join(tmpdir(), 'fc-cli-'))
@@ -109,4 +109,28 @@ describe('scripts/fit.ts', { timeout: 120_000 }, () => {
     expect(decimal.status, decimal.stderr).toBe(0)
     expect(JSON.parse(decimal.stdout).coefficients).toEqual(JSON.parse(comma.stdout).coefficients)
   })
+
+  it('fits a village random intercept, a survey design and the checks from flags, all in --json', () => {
+    const cbpp = `${FIXTURES}reference/cbpp-herds.csv`
+    const ri = run(cbpp, '--outcome', 'y', '--categorical', 'period', '--random-intercept', 'herd', '--quad-points', '8', '--link', 'logit', '--json')
+    expect(ri.status, ri.stderr).toBe(0)
+    const a = JSON.parse(ri.stdout)
+    expect(a.villageTreatment).toBe('random-intercept')
+    expect(a.randomIntercept.quadPoints).toBe(8)
+    expect(a.randomIntercept.lrTest.p).toBeLessThan(0.01)
+    expect(a.villages).toHaveLength(15)
+    const api = `${FIXTURES}reference/api-strat.csv`
+    const sv = run(api, '--outcome', 'sch_wide', '--covariates', 'ell,meals', '--weights', 'pw', '--strata', 'stype', '--fpc', 'fpc', '--link-test', '--hetero', 'meals', '--json')
+    expect(sv.status, sv.stderr).toBe(0)
+    const b = JSON.parse(sv.stdout)
+    expect(b.survey.df).toBe(197)
+    expect(b.covariance.type).toBe('survey')
+    expect(b.checks.linkTest.reading).toMatch(/squared index/)
+    expect(b.checks.hetero.lrTest.df).toBe(1)
+    const text = run(api, '--outcome', 'sch_wide', '--covariates', 'ell,meals', '--weights', 'pw', '--strata', 'stype')
+    expect(text.stdout).toContain('design df')
+    const bad = run(api, '--outcome', 'sch_wide', '--covariates', 'ell', '--strata', 'stype')
+    expect(bad.status).toBe(2)
+    expect(bad.stderr).toContain('--weights')
+  }, 180_000)
 })
