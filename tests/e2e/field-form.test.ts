@@ -104,7 +104,7 @@ describe('the tablet form in the order of a real interview', () => {
     for (const [key, value] of Object.entries(yesno)) await page.locator(`input[name="q-${key}"][value="${value}"]`).check({ force: true })
     expect(await page.getByTestId('planning-aid').count()).toBe(0)
     await page.getByRole('button', { name: 'Save visit' }).click()
-    await poll(() => page.getByTestId('visit-saved').locator('h2').textContent()).toBe('Saved')
+    await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
     await poll(() => page.getByTestId('planning-aid').getAttribute('data-probability')).toMatch(/^0\.\d+/)
     expect(await page.getByTestId('planning-aid').innerText()).toMatch(/expects a farm like this to adopt with probability \d+ %/)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'field-form-saved.png'), fullPage: true })

@@ -41,7 +41,7 @@ async function signInOnTablet(page: Page) {
 
 /** After "Save visit": the "Saved" confirmation replaces the form; its link goes back to the list. */
 async function backAfterSaved(page: Page) {
-  await poll(() => page.getByTestId('visit-saved').locator('h2').textContent()).toBe('Saved')
+  await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
   await page.getByRole('link', { name: 'Back to field work' }).click()
   await page.waitForURL(url => url.pathname === '/field')
 }
@@ -102,7 +102,7 @@ describe('field capture on a tablet with no network', () => {
     await page.getByRole('link', { name: 'New visit' }).first().click()
     await page.getByRole('button', { name: 'Save visit' }).click()
     await poll(() => page.locator('#farm-code-error').textContent()).toBe('Enter the farm code')
-    await poll(() => page.getByText('The farmer\'s informed consent is required').count()).toBe(1)
+    await poll(() => page.getByTestId('error-summary').innerText()).toContain('Consent: The farmer\'s informed consent is required')
     await page.getByRole('link', { name: 'Keep as draft' }).click()
     await page.waitForURL(url => url.pathname === '/field')
 

@@ -130,11 +130,11 @@ describe('fitting a model of the demo round', () => {
     const effect = run.results!.margins!.effects.find(e => e.covariate === 'dealer_distance_km')!
     expect(Number(distance[3])).toBeCloseTo(effect.estimate * 100, 3)
     expect(tables.coefficients![0]!.slice(0, 3)).toEqual(['term', 'characteristic', 'coefficient'])
-    expect(tables.coefficients!.find(r => r[0] === 'intercept')).toBeTruthy()
+    expect(tables.coefficients!.find(r => r[1] === 'intercept')).toBeTruthy()
     expect(tables.villages).toHaveLength(25)
     expect(tables.fit!.map(r => r[0])).toContain('area_under_curve')
 
-    const zip = await fetch(`${baseUrl()}/api/models/${run.id}/export?format=zip`, { headers: { cookie: coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
+    const zip = await fetch(`${baseUrl()}/api/models/${run.id}/export?format=zip`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
     expect(zip.headers.get('content-type')).toBe('application/zip')
     const files = unzipSync(new Uint8Array(await zip.arrayBuffer()))
     expect(Object.keys(files).sort()).toEqual(['README.txt', 'coefficients.csv', 'effects.csv', 'fit.csv', 'villages.csv'])
@@ -254,7 +254,7 @@ describe('round exports for coordinators', () => {
     for (const column of header) expect(columns).toContain(column)
     expect(String(dictionary.body)).toMatch(/^dealer_distance_km,.*,number,km,/m)
 
-    const zip = await fetch(`${baseUrl()}/api/rounds/${roundId}/export?part=all`, { headers: { cookie: coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
+    const zip = await fetch(`${baseUrl()}/api/rounds/${roundId}/export?part=all`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
     const files = unzipSync(new Uint8Array(await zip.arrayBuffer()))
     expect(Object.keys(files).sort()).toEqual(['README.txt', 'dictionary.csv', 'visits.csv'])
     expect(strFromU8(files['README.txt']!)).toMatch(/protected under the local data-protection law/)
