@@ -25,7 +25,7 @@ export function useVisitForm() {
   /** Typed but not yet written to the device. */
   let dirty = false
   /** Whether the visit is on the device yet (a new visit is not, until something is entered). */
-  let stored = true
+  const stored = ref(true)
   /** Shown after a successful save, in place of the form: the confirmation and, if switched on, the planning aid. */
   const justSaved = ref(false)
 
@@ -43,7 +43,7 @@ export function useVisitForm() {
       // A new visit lives in memory only: it becomes a draft on the tablet with the first thing entered.
       const village = Number(route.query.village)
       const now = new Date().toISOString()
-      stored = false
+      stored.value = false
       version.value = setup?.questionnaires.find(q => q.id === round.currentVersionId) ?? null
       visit.value = {
         id: crypto.randomUUID(), roundId: round.id, villageId: round.villageIds.includes(village) ? village : null, questionnaireVersionId: round.currentVersionId,
@@ -59,7 +59,7 @@ export function useVisitForm() {
       notFound.value = true
       return
     }
-    stored = true
+    stored.value = true
     visit.value = found
     errors.value = found.errors ?? {}
   }
@@ -86,8 +86,8 @@ export function useVisitForm() {
     await db.visits.put(plain)
     v.state = plain.state
     v.updatedAt = plain.updatedAt
-    if (!stored) {
-      stored = true
+    if (!stored.value) {
+      stored.value = true
       // From now on the address names the draft, so a reload or the back button finds it again.
       await router.replace({ query: { id: v.id } })
     }
@@ -101,7 +101,7 @@ export function useVisitForm() {
 
   async function addPhotos(files: FileList | File[]) {
     if (!visit.value) return
-    if (!stored) await persist()
+    if (!stored.value) await persist()
     for (const file of Array.from(files)) {
       const blob = await resizePhoto(file)
       await db.photos.add({ id: crypto.randomUUID(), visitId: visit.value.id, blob, contentType: 'image/jpeg', size: blob.size, sha256: await sha256Hex(blob), state: 'waiting', createdAt: new Date().toISOString() })
@@ -123,7 +123,7 @@ export function useVisitForm() {
     errors.value = parsed.success ? {} : fieldErrorsOf(parsed.error)
     if (!parsed.success) {
       // An untouched new visit stays off the tablet even when "Save" is pressed on the empty form.
-      if (stored) await persist()
+      if (stored.value) await persist()
       return false
     }
     saving.value = true
@@ -157,7 +157,7 @@ export function useVisitForm() {
   }
 
   /** Only a draft the server has never seen can be thrown away; its photos go with it. */
-  const discardable = computed(() => visit.value?.state === 'draft' && visit.value.baseVersion === 0 && !visit.value.syncedAt && visit.value.savedAt === null)
+  const discardable = computed(() => stored.value && visit.value?.state === 'draft' && visit.value.baseVersion === 0 && !visit.value.syncedAt && visit.value.savedAt === null)
   async function discard() {
     if (!visit.value || !discardable.value) return
     clearTimeout(saveTimer)
@@ -167,7 +167,7 @@ export function useVisitForm() {
       await db.photos.where({ visitId: id }).delete()
       await db.visits.delete(id)
     })
-    stored = false
+    stored.value = false
   }
 
   onMounted(load)
@@ -176,5 +176,5 @@ export function useVisitForm() {
     if (dirty) void persist()
   })
 
-  return { visit, version, errors, notFound, saving, readOnly, justSaved, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
+  return { visit, version, errors, notFound, saving, readOnly, justSaved, stored, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
 }

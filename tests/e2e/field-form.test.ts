@@ -56,8 +56,9 @@ describe('the tablet form in the order of a real interview', () => {
     expect(await page.getByLabel('Farm code *').isDisabled()).toBe(true)
     expect(await page.locator('#q-farm_size_ha').isDisabled()).toBe(true)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'field-form-consent-first.png'), fullPage: true })
-    // Leaving an untouched form leaves nothing behind.
-    await page.getByRole('link', { name: 'Keep as draft' }).click()
+    // Leaving an untouched form leaves nothing behind, and the way out says so.
+    expect(await page.getByRole('button', { name: 'Discard this draft' }).count()).toBe(0)
+    await page.getByRole('link', { name: 'Back', exact: true }).click()
     await page.waitForURL(url => url.pathname === '/field')
     await poll(() => localVisits(page)).toBe(before)
 

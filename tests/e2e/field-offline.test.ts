@@ -103,7 +103,8 @@ describe('field capture on a tablet with no network', () => {
     await page.getByRole('button', { name: 'Save visit' }).click()
     await poll(() => page.locator('#farm-code-error').textContent()).toBe('Enter the farm code')
     await poll(() => page.getByTestId('error-summary').innerText()).toContain('Consent: The farmer\'s informed consent is required')
-    await page.getByRole('link', { name: 'Keep as draft' }).click()
+    // Nothing was entered, so nothing was kept: the way out says "Back", not "Keep as draft".
+    await page.getByRole('link', { name: 'Back', exact: true }).click()
     await page.waitForURL(url => url.pathname === '/field')
 
     const tag = Date.now().toString(36).toUpperCase()

@@ -96,6 +96,9 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await page.screenshot({ path: path.join(SCREENSHOTS, 'model-results-tablet.png'), fullPage: true })
     await page.setViewportSize({ width: 1180, height: 820 })
     await page.getByLabel('over all farms visited').check()
+    await page.waitForTimeout(1500)
+    await page.locator('section[aria-labelledby="story-heading"]').screenshot({ path: path.join(SCREENSHOTS, 'model-results-story.png') })
+    await page.locator('section[aria-labelledby="quality-heading"]').screenshot({ path: path.join(SCREENSHOTS, 'model-results-quality.png') })
 
     // A yes/no scenario through the form, read as an answer, never as "set to 1".
     await page.getByLabel('Scenario name').fill('extension for all')
