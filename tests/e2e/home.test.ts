@@ -96,6 +96,8 @@ describe('home pages with real figures', () => {
     const { context, page, errors } = await homeOf('enumerator', { width: 820, height: 1180 })
     const user = await User.findOne({ where: { email: demoUser('enumerator').email } })
     await expect.poll(() => text(page, 'home-field')).toContain('Waiting to sync\n0')
+    // Let the tablet's first sync pass finish (it records today's date) before the store is changed by hand.
+    await expect.poll(() => text(page, 'home-last-sync'), { timeout: 20_000 }).toMatch(/\d{4}, \d{2}:\d{2}/)
     // Two visits put straight into the tablet's store, as the form would leave them: one queued, one sent back.
     await page.evaluate(async (userId) => {
       const open = indexedDB.open(`furrowcast-field-${userId}`)
