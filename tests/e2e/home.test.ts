@@ -49,7 +49,7 @@ describe('home pages with real figures', () => {
     const toReview = await Visit.count({ where: { roundId, reviewState: 'received' } })
     const round = await Round.findByPk(roundId)
     const card = page.getByTestId('home-round').filter({ hasText: round!.name })
-    await expect.poll(() => card.count()).toBe(1)
+    await expect.poll(() => card.count(), { timeout: 20_000 }).toBe(1)
     const shown = await card.innerText()
     expect(shown).toContain(`Visits received\n${visits.toLocaleString('en-GB')}`)
     expect(shown).toContain(`Waiting for review\n${toReview.toLocaleString('en-GB')}`)
@@ -95,7 +95,7 @@ describe('home pages with real figures', () => {
   it('shows the enumerator what waits on this tablet, read from the tablet\'s own store', async () => {
     const { context, page, errors } = await homeOf('enumerator', { width: 820, height: 1180 })
     const user = await User.findOne({ where: { email: demoUser('enumerator').email } })
-    await expect.poll(() => text(page, 'home-field')).toContain('Waiting to sync\n0')
+    await expect.poll(() => text(page, 'home-field'), { timeout: 20_000 }).toContain('Waiting to sync\n0')
     // Let the tablet's first sync pass finish (it records today's date) before the store is changed by hand.
     await expect.poll(() => text(page, 'home-last-sync'), { timeout: 20_000 }).toMatch(/\d{4}, \d{2}:\d{2}/)
     // Two visits put straight into the tablet's store, as the form would leave them: one queued, one sent back.
@@ -118,7 +118,7 @@ describe('home pages with real figures', () => {
     // as a dead connection would. The browser logs that answer, which is expected here and nothing else is.
     await page.route('**/api/sync/visits', route => route.request().method() === 'POST' ? route.fulfill({ status: 503, headers: { 'retry-after': '60' }, body: '{}' }) : route.continue())
     await page.reload()
-    await expect.poll(() => text(page, 'home-field')).toContain('Waiting to sync\n1')
+    await expect.poll(() => text(page, 'home-field'), { timeout: 20_000 }).toContain('Waiting to sync\n1')
     expect(await text(page, 'home-field')).toContain('Sent back to fix\n1')
     expect(await text(page, 'home-last-sync')).toMatch(/4 Mar 2026/)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'home-enumerator.png'), fullPage: true })
