@@ -24,27 +24,34 @@ export function useVisitForm() {
   let saveTimer: ReturnType<typeof setTimeout> | undefined
   /** Typed but not yet written to the device. */
   let dirty = false
+  /** Whether the visit is on the device yet (a new visit is not, until something is entered). */
+  const stored = ref(true)
+  /** Shown after a successful save, in place of the form: the confirmation and, if switched on, the planning aid. */
+  const justSaved = ref(false)
 
   async function load() {
     if (!user.value) return
     db = fieldDb(user.value.id)
     const setup = await db.setup()
-    let id = typeof route.query.id === 'string' ? route.query.id : null
+    const id = typeof route.query.id === 'string' ? route.query.id : null
     if (!id) {
       const round = setup?.rounds.find(r => r.id === Number(route.query.round))
       if (!round) {
         notFound.value = true
         return
       }
+      // A new visit lives in memory only: it becomes a draft on the tablet with the first thing entered.
       const village = Number(route.query.village)
       const now = new Date().toISOString()
-      id = crypto.randomUUID()
-      await db.visits.add({
-        id, roundId: round.id, villageId: round.villageIds.includes(village) ? village : null, questionnaireVersionId: round.currentVersionId,
+      stored.value = false
+      version.value = setup?.questionnaires.find(q => q.id === round.currentVersionId) ?? null
+      visit.value = {
+        id: crypto.randomUUID(), roundId: round.id, villageId: round.villageIds.includes(village) ? village : null, questionnaireVersionId: round.currentVersionId,
         farmCode: '', location: null, answers: {}, consent: false, consentAt: null, startedAt: now, savedAt: null, baseVersion: 0,
         state: 'draft', reviewState: null, reviewReason: null, errors: null, serverCopy: null, updatedAt: now, syncedAt: null
-      })
-      await router.replace({ query: { id } })
+      }
+      if (!version.value) notFound.value = true
+      return
     }
     const found = await db.visits.get(id)
     version.value = setup?.questionnaires.find(q => q.id === found?.questionnaireVersionId) ?? null
@@ -52,6 +59,7 @@ export function useVisitForm() {
       notFound.value = true
       return
     }
+    stored.value = true
     visit.value = found
     errors.value = found.errors ?? {}
   }
@@ -78,6 +86,11 @@ export function useVisitForm() {
     await db.visits.put(plain)
     v.state = plain.state
     v.updatedAt = plain.updatedAt
+    if (!stored.value) {
+      stored.value = true
+      // From now on the address names the draft, so a reload or the back button finds it again.
+      await router.replace({ query: { id: v.id } })
+    }
   }
 
   function setConsent(given: boolean) {
@@ -88,6 +101,7 @@ export function useVisitForm() {
 
   async function addPhotos(files: FileList | File[]) {
     if (!visit.value) return
+    if (!stored.value) await persist()
     for (const file of Array.from(files)) {
       const blob = await resizePhoto(file)
       await db.photos.add({ id: crypto.randomUUID(), visitId: visit.value.id, blob, contentType: 'image/jpeg', size: blob.size, sha256: await sha256Hex(blob), state: 'waiting', createdAt: new Date().toISOString() })
@@ -108,12 +122,14 @@ export function useVisitForm() {
     const parsed = visitSchemaFor(version.value).safeParse(candidate)
     errors.value = parsed.success ? {} : fieldErrorsOf(parsed.error)
     if (!parsed.success) {
-      await persist()
+      // An untouched new visit stays off the tablet even when "Save" is pressed on the empty form.
+      if (stored.value) await persist()
       return false
     }
     saving.value = true
     try {
       await persist({ state: 'queued', savedAt, errors: null, serverCopy: null })
+      justSaved.value = true
       void sync.syncNow()
       return true
     }
@@ -140,11 +156,25 @@ export function useVisitForm() {
     await save()
   }
 
+  /** Only a draft the server has never seen can be thrown away; its photos go with it. */
+  const discardable = computed(() => stored.value && visit.value?.state === 'draft' && visit.value.baseVersion === 0 && !visit.value.syncedAt && visit.value.savedAt === null)
+  async function discard() {
+    if (!visit.value || !discardable.value) return
+    clearTimeout(saveTimer)
+    dirty = false
+    const id = visit.value.id
+    await db.transaction('rw', db.visits, db.photos, async () => {
+      await db.photos.where({ visitId: id }).delete()
+      await db.visits.delete(id)
+    })
+    stored.value = false
+  }
+
   onMounted(load)
   onBeforeUnmount(() => {
     clearTimeout(saveTimer)
     if (dirty) void persist()
   })
 
-  return { visit, version, errors, notFound, saving, readOnly, setConsent, addPhotos, removePhoto, save, keepServerCopy, resendOnTop }
+  return { visit, version, errors, notFound, saving, readOnly, justSaved, stored, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
 }

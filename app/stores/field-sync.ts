@@ -41,7 +41,8 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
       })
       lastSyncAt.value = new Date().toISOString()
       failures = 0
-      online.value = true
+      // The connection may have dropped while this pass finished: the device's own flag has the last word.
+      online.value = navigator.onLine
       schedule(PERIOD_MS)
     }
     catch (e) {

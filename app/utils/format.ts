@@ -25,3 +25,15 @@ export function stars(p: number | null | undefined): string {
 export function seLabelOf(type: string | undefined): string {
   return ({ cluster: 'clustered by village', conventional: 'conventional', hc0: 'robust (HC0)', hc1: 'robust (HC1)', survey: 'from the sampling plan' } as Record<string, string>)[type ?? ''] ?? ''
 }
+
+/** A day as "2 Dec 2026", in UTC and one fixed locale so the server's render and the browser's agree. */
+export function dayOf(iso: string | null | undefined): string {
+  if (!iso) return '—'
+  return new Date(iso).toLocaleDateString('en-GB', { day: 'numeric', month: 'short', year: 'numeric', timeZone: 'UTC' })
+}
+
+/** A whole number with thousands separators, the same on server and browser: 1505 → "1,505". */
+export function wholeNumber(value: number | null | undefined): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return '—'
+  return Math.round(value).toLocaleString('en-GB')
+}

@@ -1,6 +1,7 @@
 import type { EventHandlerRequest, H3Event } from 'h3'
 import type { Role } from '#shared/utils/roles'
-import { Organisation, User } from '../db/models'
+import { funderOrganisationOf } from '#shared/utils/funders'
+import { Organisation, User, settingsOf } from '../db/models'
 
 export type SignedInUser = User & { organisation: Organisation }
 
@@ -46,7 +47,9 @@ export function sessionUserOf(user: SignedInUser) {
     name: user.name,
     role: user.role,
     organisationId: user.organisationId,
-    organisationName: user.organisation.name
+    organisationName: user.organisation.name,
+    // A funder belongs to a funder organisation of its own (by e-mail domain); the header names that one.
+    affiliationName: user.role === 'funder' ? funderOrganisationOf(user.email, settingsOf(user.organisation).funderOrganisations)?.name ?? null : null
   }
 }
 

@@ -118,6 +118,7 @@ export function runSummary(run: ModelRun) {
     link: run.spec.link ?? 'probit',
     se: run.spec.se ?? 'conventional',
     equation: equationText(run.spec),
+    covariates: run.spec.covariates.map(c => c.label ?? c.name),
     rowCount: run.rowCount,
     used: run.results?.rows.used ?? null,
     loglik: run.results?.fit.loglik ?? null,

@@ -8,6 +8,8 @@ declare module '#auth-utils' {
     role: Role
     organisationId: number
     organisationName: string
+    /** A funder's own organisation (from the programme's list of funders), null for everyone else. */
+    affiliationName?: string | null
   }
 
   interface UserSession {

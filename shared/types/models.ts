@@ -8,6 +8,10 @@ export interface ModelRunSummary {
   link: string
   se: string
   equation: string
+  /** The characteristics in the fit, by their labels. */
+  covariates: string[]
+  /** In the list of a round's fits: whether this is the fit funders see now. */
+  published?: boolean
   /** Null until the fit has read its rows. */
   rowCount: number | null
   used: number | null

@@ -39,8 +39,19 @@ async function signInOnTablet(page: Page) {
   await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
 }
 
+/** After "Save visit": the "Saved" confirmation replaces the form; its link goes back to the list. */
+async function backAfterSaved(page: Page) {
+  await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
+  await page.getByRole('link', { name: 'Back to field work' }).click()
+  await page.waitForURL(url => url.pathname === '/field')
+}
+
 async function recordVisit(page: Page, farmCode: string, photo?: Buffer) {
   await page.getByRole('link', { name: 'New visit' }).first().click()
+  await page.waitForURL(/\/field\/visit\?round=/)
+  // Consent comes first: until it is recorded, nothing else of the visit can be entered.
+  expect(await page.getByLabel('Farm code *').isDisabled()).toBe(true)
+  await page.getByRole('checkbox', { name: /informed consent/ }).check()
   await page.waitForURL(/\/field\/visit\?id=/)
   await page.getByLabel('Farm code *').fill(farmCode)
   await page.getByRole('button', { name: 'Record GPS position' }).click()
@@ -51,9 +62,8 @@ async function recordVisit(page: Page, farmCode: string, photo?: Buffer) {
     await page.locator('#visit-photos').setInputFiles({ name: 'farm.png', mimeType: 'image/png', buffer: photo })
     await poll(() => page.getByTestId('visit-photo').count()).toBe(1)
   }
-  await page.getByRole('checkbox', { name: /informed consent/ }).check()
   await page.getByRole('button', { name: 'Save visit' }).click()
-  await page.waitForURL(url => url.pathname === '/field')
+  await backAfterSaved(page)
 }
 
 describe('field capture on a tablet with no network', () => {
@@ -92,8 +102,9 @@ describe('field capture on a tablet with no network', () => {
     await page.getByRole('link', { name: 'New visit' }).first().click()
     await page.getByRole('button', { name: 'Save visit' }).click()
     await poll(() => page.locator('#farm-code-error').textContent()).toBe('Enter the farm code')
-    await poll(() => page.getByText('The farmer\'s informed consent is required').count()).toBe(1)
-    await page.getByRole('link', { name: 'Keep as draft' }).click()
+    await poll(() => page.getByTestId('error-summary').innerText()).toContain('Consent: The farmer\'s informed consent is required')
+    // Nothing was entered, so nothing was kept: the way out says "Back", not "Keep as draft".
+    await page.getByRole('link', { name: 'Back', exact: true }).click()
     await page.waitForURL(url => url.pathname === '/field')
 
     const tag = Date.now().toString(36).toUpperCase()
@@ -139,7 +150,7 @@ describe('field capture on a tablet with no network', () => {
     await poll(() => page.getByText('Check the household size with the farmer').count()).toBe(1)
     await page.locator('#q-household_size').fill('8')
     await page.getByRole('button', { name: 'Save visit' }).click()
-    await page.waitForURL(url => url.pathname === '/field')
+    await backAfterSaved(page)
     await poll(() => page.getByTestId('count-synced').textContent(), 20_000).toBe('3')
     await poll(async () => (await Visit.findByPk(second.id))!.reviewState).toBe('received')
     expect((await Visit.findByPk(second.id))!.answers).toMatchObject({ household_size: 8 })
@@ -168,7 +179,7 @@ describe('field capture on a tablet with no network', () => {
     await page.locator('[data-testid="local-visit"][data-state="sent_back"]').getByRole('link').click()
     await page.locator('#q-livestock_tlu').fill('2.5')
     await page.getByRole('button', { name: 'Save visit' }).click()
-    await page.waitForURL(url => url.pathname === '/field')
+    await backAfterSaved(page)
     expect((await coordinator.post(`/api/review/visits/${visit.id}`, { action: 'correct', answers: { farm_size_ha: 3.3 }, reason: 'Confirmed by phone' })).status).toBe(200)
     await context.setOffline(false)
     await poll(() => page.locator('[data-testid="local-visit"][data-state="conflict"]').count(), 30_000).toBe(1)

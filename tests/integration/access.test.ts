@@ -47,6 +47,9 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path:
   { method: 'GET', path: '/api/publications?roundId=:round', roles: ['coordinator'] },
   { method: 'DELETE', path: '/api/publications/999999', roles: ['coordinator'], ok: 404 },
   { method: 'GET', path: '/api/overview', roles: ['funder', 'coordinator'] },
+  { method: 'GET', path: '/api/home/coordinator', roles: ['coordinator'] },
+  { method: 'GET', path: '/api/home/funder', roles: ['funder'] },
+  { method: 'GET', path: '/api/home/admin', roles: ['admin'] },
   { method: 'GET', path: '/api/overview/999999', roles: ['funder', 'coordinator'], ok: 404 },
   { method: 'GET', path: '/api/field/model?roundId=:round', roles: ['enumerator'] },
   { method: 'GET', path: '/api/rounds/:round/export', roles: ['coordinator'] }

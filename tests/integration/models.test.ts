@@ -1,11 +1,13 @@
 import { readFileSync, readdirSync } from 'node:fs'
+import { strFromU8, unzipSync } from 'fflate'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { AuditEntry, ModelRun, Organisation, Publication, Round, Visit, Village } from '../../server/db/models'
 import { runModel } from '../../shared/utils/stats'
 import type { ModelRunDetail, ModelRunSummary } from '../../shared/types/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
-import { type Client, demoUser, freshClient } from '../support/server'
+import { type Client, baseUrl, demoUser, freshClient } from '../support/server'
+import { rectangular } from '../support/csv'
 
 // The demo round: 1,500 accepted visits in 24 villages generated from a known probit (server/db/demo/README.md).
 let coordinator: Client
@@ -113,12 +115,31 @@ describe('fitting a model of the demo round', () => {
     expect(answer.body[0]!.villages).toHaveLength(24)
   })
 
-  it('exports CSV and JSON with the cautions first', async () => {
-    const csv = await coordinator.request('GET', `/api/models/${run.id}/export?format=csv`)
-    expect(csv.status).toBe(200)
-    expect(String(csv.body).split('\n')[0]).toMatch(/^# These are associations .* not causal effects/)
-    expect(String(csv.body)).toMatch(/^coefficient,intercept,-?\d/m)
-    expect(String(csv.body)).toMatch(/^village_code,village,visits/m)
+  it('exports each table as one rectangular CSV, all of them in a zip with a read-me of the cautions, and JSON', async () => {
+    const tables: Record<string, string[][]> = {}
+    for (const table of ['effects', 'coefficients', 'villages', 'fit']) {
+      const csv = await coordinator.request('GET', `/api/models/${run.id}/export?format=csv&table=${table}`)
+      expect(csv.status).toBe(200)
+      expect(csv.headers.get('content-type')).toMatch(/text\/csv/)
+      tables[table] = rectangular(String(csv.body))
+    }
+    // Effects in the units of the screen: percentage points, the unit named in the header.
+    expect(tables.effects![0]).toEqual(['characteristic', 'change_measured', 'measured_over', 'change_points', 'range_low_points', 'range_high_points', 'standard_error_points', 'p_value', 'how_sure'])
+    const distance = tables.effects!.find(r => r[0]!.startsWith('Distance to the nearest input dealer'))!
+    expect(distance[1]).toBe('per additional km')
+    const effect = run.results!.margins!.effects.find(e => e.covariate === 'dealer_distance_km')!
+    expect(Number(distance[3])).toBeCloseTo(effect.estimate * 100, 3)
+    expect(tables.coefficients![0]!.slice(0, 3)).toEqual(['term', 'characteristic', 'coefficient'])
+    expect(tables.coefficients!.find(r => r[1] === 'intercept')).toBeTruthy()
+    expect(tables.villages).toHaveLength(25)
+    expect(tables.fit!.map(r => r[0])).toContain('area_under_curve')
+
+    const zip = await fetch(`${baseUrl()}/api/models/${run.id}/export?format=zip`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
+    expect(zip.headers.get('content-type')).toBe('application/zip')
+    const files = unzipSync(new Uint8Array(await zip.arrayBuffer()))
+    expect(Object.keys(files).sort()).toEqual(['README.txt', 'coefficients.csv', 'effects.csv', 'fit.csv', 'villages.csv'])
+    expect(strFromU8(files['README.txt']!)).toMatch(/not causal effects/)
+    expect(strFromU8(files['effects.csv']!).split('\n')[0]).toMatch(/^characteristic,/)
     const json = await coordinator.get<{ cautions: string[], results: unknown }>(`/api/models/${run.id}/export?format=json`)
     expect(json.body.cautions.length).toBe(3)
   })
@@ -219,10 +240,12 @@ describe('round exports for coordinators', () => {
     expect(visits.status).toBe(200)
     expect(visits.headers.get('content-type')).toMatch(/text\/csv/)
     const lines = String(visits.body).trim().split('\n')
-    expect(lines[0]).toMatch(/^# These are associations/)
-    const header = lines.find(l => l.startsWith('visit_id,'))!.split(',')
+    // One table, its header on row 1: no comment lines above it.
+    rectangular(String(visits.body))
+    const header = lines[0]!.split(',')
+    expect(header[0]).toBe('visit_id')
     expect(header).toEqual(expect.arrayContaining(['village_code', 'farm_code', 'adopted', 'dealer_distance_km', 'extension_contact']))
-    const dataRows = lines.slice(lines.indexOf(lines.find(l => l.startsWith('visit_id,'))!) + 1)
+    const dataRows = lines.slice(1)
     expect(dataRows).toHaveLength(await Visit.count({ where: { roundId, reviewState: 'accepted' } }))
     expect(dataRows.every(r => /,(yes|no),/.test(r))).toBe(true)
 
@@ -230,6 +253,12 @@ describe('round exports for coordinators', () => {
     const columns = String(dictionary.body).trim().split('\n').slice(1).map(l => l.split(',')[0])
     for (const column of header) expect(columns).toContain(column)
     expect(String(dictionary.body)).toMatch(/^dealer_distance_km,.*,number,km,/m)
+
+    const zip = await fetch(`${baseUrl()}/api/rounds/${roundId}/export?part=all`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
+    const files = unzipSync(new Uint8Array(await zip.arrayBuffer()))
+    expect(Object.keys(files).sort()).toEqual(['README.txt', 'dictionary.csv', 'visits.csv'])
+    expect(strFromU8(files['README.txt']!)).toMatch(/protected under the local data-protection law/)
+    expect(strFromU8(files['visits.csv']!)).toBe(String(visits.body))
   })
 
   it('refuses the exports to funders and enumerators, and answers 404 for an unknown round', async () => {

@@ -18,8 +18,9 @@ export const SE_CHOICES = ['cluster', 'conventional', 'hc1'] as const
 export const LINK_LABELS: Record<typeof LINK_CHOICES[number], string> = {
   probit: 'Probit (normal)',
   logit: 'Logit (logistic)',
-  cloglog: 'Complementary log-log',
-  cauchit: 'Cauchit (Cauchy)'
+  cloglog: 'Lopsided curve (complementary log-log)',
+  // Our plain name first: the curve's tails are heavy, so a few extreme farms move it less.
+  cauchit: 'Heavy-tailed curve (cauchit)'
 }
 
 export const SE_LABELS: Record<typeof SE_CHOICES[number], string> = {

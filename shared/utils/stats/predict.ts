@@ -104,8 +104,12 @@ function groupMeans(design: Design, fit: FitResult, cov: Covariance, groupOf: In
   return out
 }
 
-function describe(spec: ScenarioSpec, label: string): string {
-  const what = spec.shift !== undefined ? `${label} increased by ${spec.shift}` : `${label} set to ${String(spec.set)}`
+/** Yes/no covariates are read as answers ("yes"/"no"), never as the 1/0 the design matrix holds. */
+function describe(spec: ScenarioSpec, label: string, type: string): string {
+  const setText = type === 'yesno' ? (['1', 'yes', 'true'].includes(String(spec.set).toLowerCase()) ? 'yes' : 'no') : String(spec.set)
+  const what = spec.shift !== undefined
+    ? `${label} increased by ${spec.shift}`
+    : type === 'yesno' ? `“${label}” answered ${setText}` : `${label} set to ${setText}`
   return spec.villages?.length ? `${what} in ${spec.villages.length} village(s)` : `${what} for every farm`
 }
 
@@ -222,5 +226,5 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
     const jg = gJ.subarray(g * k, (g + 1) * k).map(v => v / gW[g]!)
     villages.push({ village: design.clusterLabels[g]!, ...est((gScen[g]! - gBase[g]!) / gW[g]!, jg, gBase[g]! / gW[g]!, gScen[g]! / gW[g]!) })
   }
-  return { name: spec.name, covariate: spec.covariate, description: describe(spec, c.label), rowsChanged: changed, overall, villages }
+  return { name: spec.name, covariate: spec.covariate, description: describe(spec, c.label, c.type), rowsChanged: changed, overall, villages }
 }

@@ -52,17 +52,24 @@ describe('one-line readings of marginal effects', () => {
 
   it('reads a significant yes/no effect in percentage points, as an association', () => {
     expect(readMarginalEffect({ ...base, estimate: 0.12, p: 0.0001, ciLow: 0.071, ciHigh: 0.169 }))
-      .toBe('Answering yes to “Contact with an extension officer last season?” goes with a 12-point higher adoption probability (95% CI 7.1 to 16.9 points).')
+      .toBe('Answering yes to “Contact with an extension officer last season?” goes with a 12.0-point higher adoption probability (95% CI 7.1 to 16.9 points).')
   })
 
   it('reads a negative effect per unit, without repeating the unit', () => {
     expect(readMarginalEffect({ ...base, covariate: 'distance', label: 'Distance to the nearest input dealer (km)', kind: 'derivative', level: undefined, reference: undefined, estimate: -0.0134, p: 0.001, ciLow: -0.02, ciHigh: -0.0068 }, 'km'))
-      .toBe('Each additional km of distance to the nearest input dealer goes with a 1.3-point lower adoption probability (95% CI 0.7 to 2 points).')
+      .toBe('Each additional km of distance to the nearest input dealer goes with a 1.3-point lower adoption probability (95% CI 0.7 to 2.0 points).')
   })
 
   it('reads a choice level against its reference', () => {
     expect(readMarginalEffect({ ...base, covariate: 'soil', label: 'Soil type: clay vs loam', level: 'clay', reference: 'loam', estimate: 0.08, p: 0.01, ciLow: 0.02, ciHigh: 0.14 }))
-      .toBe('Soil type: clay rather than loam goes with an 8-point higher adoption probability (95% CI 2 to 14 points).')
+      .toBe('Soil type: clay rather than loam goes with an 8.0-point higher adoption probability (95% CI 2.0 to 14.0 points).')
+  })
+
+  it('never repeats the unit: a label that starts with its unit reads as one unit of the rest', () => {
+    const years = { ...base, covariate: 'schooling_years', label: 'Years of schooling (years)', kind: 'derivative' as const, level: undefined, reference: undefined, estimate: 0.011, p: 0.002, ciLow: 0.004, ciHigh: 0.018 }
+    expect(readMarginalEffect(years, 'years')).toBe('Each additional year of schooling goes with a 1.1-point higher adoption probability (95% CI 0.4 to 1.8 points).')
+    expect(readMarginalEffect({ ...years, label: 'Farm size (ha)' }, 'ha')).toMatch(/^Each additional ha of farm size goes with/)
+    expect(readMarginalEffect({ ...years, label: 'Age of the household head' })).toMatch(/^Each one-unit increase in age of the household head goes with/)
   })
 
   it('says nothing for an effect that is not significant at 5 %', () => {

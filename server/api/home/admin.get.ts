@@ -1,0 +1,1 @@
+export default defineRoleHandler(['admin'], (_event, user) => adminHome(user))

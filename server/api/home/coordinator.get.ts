@@ -1,0 +1,1 @@
+export default defineRoleHandler(['coordinator'], (_event, user) => coordinatorHome(user))

@@ -1,0 +1,1 @@
+export default defineRoleHandler(['funder'], (_event, user) => funderHome(user))
