@@ -1,5 +1,6 @@
 import { Op } from 'sequelize'
 import type { MapVillage } from '#shared/types/overview'
+import { funderHeadline, funderVillages } from './funder-view'
 import { funderOrganisationOf } from '#shared/utils/funders'
 import { Organisation, Publication, Round, Village, settingsOf } from '../db/models'
 import type { SignedInUser } from './access'
@@ -11,7 +12,7 @@ import type { SignedInUser } from './access'
  * The organisation's small-cell threshold, after checking that a funder's e-mail domain is one of the funder
  * organisations the admins listed in the settings (an empty list shares with no funder).
  */
-async function minimumVisits(user: SignedInUser): Promise<number> {
+export async function minimumVisits(user: SignedInUser): Promise<number> {
   const organisation = await Organisation.findByPk(user.organisationId)
   const settings = organisation ? settingsOf(organisation) : null
   if (user.role === 'funder' && !funderOrganisationOf(user.email, settings?.funderOrganisations ?? [])) {
@@ -26,7 +27,6 @@ export async function publishedRounds(user: SignedInUser) {
   const minVisits = await minimumVisits(user)
   return publications.map((p) => {
     const round = rounds.find(r => r.id === p.roundId)
-    const shown = p.content.villages.filter(v => v.n >= minVisits)
     return {
       roundId: p.roundId,
       round: round?.name ?? '',
@@ -34,14 +34,7 @@ export async function publishedRounds(user: SignedInUser) {
       season: round?.season ?? '',
       note: p.note,
       publishedAt: p.createdAt.toISOString(),
-      farmsVisited: p.content.farmsVisited,
-      observedRate: p.content.overall.observedRate,
-      predicted: { estimate: p.content.overall.estimate, ciLow: p.content.overall.ciLow, ciHigh: p.content.overall.ciHigh },
-      villages: p.content.villages.length,
-      suppressedVillages: p.content.villages.length - shown.length,
-      targetRate: p.content.targetRate,
-      villagesBelowTarget: shown.filter(v => v.estimate < p.content.targetRate).length,
-      scenarios: p.content.scenarios.map(s => ({ name: s.name, description: s.description, change: s.overall.estimate }))
+      ...funderHeadline(p.content, minVisits)
     }
   })
 }
@@ -52,25 +45,7 @@ export async function publishedMap(user: SignedInUser, roundId: number): Promise
   if (!publication) throw createError({ statusCode: 404, message: 'This round has no published results.' })
   const minVisits = await minimumVisits(user)
   const places = await Village.findAll({ where: { organisationId: user.organisationId, code: { [Op.in]: publication.content.villages.map(v => v.village) } } })
-  const villages = publication.content.villages.flatMap((v): MapVillage[] => {
-    const place = places.find(p => p.code === v.village)
-    if (!place) return []
-    const suppressed = v.n < minVisits
-    return [{
-      code: place.code,
-      name: place.name,
-      lat: place.centreLat,
-      lon: place.centreLon,
-      boundary: (place.boundary as GeoJSON.Geometry | null) ?? null,
-      visits: suppressed ? null : v.n,
-      suppressed,
-      observedRate: suppressed ? null : v.observedRate,
-      predicted: suppressed ? null : { estimate: v.estimate, ciLow: v.ciLow, ciHigh: v.ciHigh },
-      scenarios: suppressed
-        ? {}
-        : Object.fromEntries(publication.content.scenarios.flatMap(s => s.villages.filter(sv => sv.village === v.village).map(sv => [s.name, sv.scenario])))
-    }]
-  })
+  const villages = funderVillages(publication.content, places, minVisits)
   return { villages, scenarios: publication.content.scenarios.map(s => s.name), previous: await previousRound(user.organisationId, roundId) }
 }
 
