@@ -74,21 +74,24 @@ export class VillageCanvasLayer extends L.Layer {
     return this
   }
 
+  // One object for the layer's lifetime: Leaflet removes the handlers with the object getEvents returns then.
+  private readonly events = {
+    viewreset: () => this._map && this.redraw(this._map),
+    zoom: () => this._map && this.transform(this._map.getCenter(), this._map.getZoom()),
+    zoomanim: (e: L.LeafletEvent) => this.transform((e as L.ZoomAnimEvent).center, (e as L.ZoomAnimEvent).zoom),
+    moveend: () => this._map && this.redraw(this._map),
+    mousemove: (e: L.LeafletEvent) => this.hover((e as L.LeafletMouseEvent).layerPoint),
+    mouseout: () => this.hover(null)
+  }
+
   override getEvents() {
-    return {
-      viewreset: () => this.redraw(this._map),
-      zoom: () => this.transform(this._map.getCenter(), this._map.getZoom()),
-      zoomanim: (e: L.LeafletEvent) => this.transform((e as L.ZoomAnimEvent).center, (e as L.ZoomAnimEvent).zoom),
-      moveend: () => this.redraw(this._map),
-      mousemove: (e: L.LeafletEvent) => this.hover((e as L.LeafletMouseEvent).layerPoint),
-      mouseout: () => this.hover(null)
-    }
+    return this.events
   }
 
   /** Keeps the drawn canvas under the map during a zoom animation (as Leaflet's renderer does), redrawn at its end. */
   private transform(centre: L.LatLng, zoom: number) {
     const map = this._map
-    if (!this.canvas || !this.drawnAt) return
+    if (!map || !this.canvas || !this.drawnAt) return
     const scale = map.getZoomScale(zoom, this.drawnAt.zoom)
     const viewHalf = map.getSize().multiplyBy(0.5 + this.padding)
     const mapPane = L.DomUtil.getPosition(map.getPane('mapPane')!)

@@ -15,7 +15,7 @@ export interface VillagePixel {
   name: string
   x: number
   y: number
-  /** The composed screen's colour at the village's centre, #rrggbb. */
+  /** The composed screen's colour at the village's centre (or around it, see below), #rrggbb. */
   colour: string
   /** Dark runs (outline, target ring) met going right from the centre, over 26 px. */
   darkRuns: number
@@ -33,9 +33,19 @@ function mercator(lat: number, lon: number, zoom: number) {
 /** The villages inside the visible map (10 px from its edges) with the screen's colour at each. */
 export async function villagePixels(page: Page, villages: readonly PlacedVillage[], scope = page.locator('body')): Promise<VillagePixel[]> {
   const map = scope.getByTestId('adoption-map')
+  // No pointer over the map: a village's hover label would cover what is under it.
+  await page.mouse.move(0, 0)
   // The element's own screenshot: scrolled into view, everything drawn over it included.
   const shot = PNG.sync.read(await map.screenshot())
-  const box = await map.evaluate(el => ({ left: el.clientLeft, top: el.clientTop, width: el.clientWidth, height: el.clientHeight, view: el.getAttribute('data-view') ?? '' }))
+  const box = await map.evaluate((el) => {
+    const r = el.getBoundingClientRect()
+    // The map's own buttons (zoom) sit over a corner of it; a village under them is not expected to show.
+    const controls = [...el.querySelectorAll('.leaflet-control')].map((c) => {
+      const b = c.getBoundingClientRect()
+      return { left: b.left - r.left - el.clientLeft, top: b.top - r.top - el.clientTop, right: b.right - r.left - el.clientLeft, bottom: b.bottom - r.top - el.clientTop }
+    })
+    return { left: el.clientLeft, top: el.clientTop, width: el.clientWidth, height: el.clientHeight, view: el.getAttribute('data-view') ?? '', controls }
+  })
   const [lat, lon, zoom] = box.view.split(',').map(Number) as [number, number, number]
   const centre = mercator(lat, lon, zoom)
   const at = (x: number, y: number) => {
@@ -47,6 +57,13 @@ export async function villagePixels(page: Page, villages: readonly PlacedVillage
     const x = Math.round(p.x - centre.x + box.width / 2)
     const y = Math.round(p.y - centre.y + box.height / 2)
     if (x < 10 || y < 10 || x >= box.width - 36 || y >= box.height - 10) return []
+    if (box.controls.some(c => x >= c.left - 4 && x <= c.right + 4 && y >= c.top - 4 && y <= c.bottom + 4)) return []
+    // The centre pixel, or the most common colour of the 3 × 3 pixels around it if a neighbour's outline crosses it.
+    const around: string[] = []
+    for (let dy = -1; dy <= 1; dy++) for (let dx = -1; dx <= 1; dx++) around.push(hex(...at(x + dx, y + dy)))
+    const counts = new Map<string, number>()
+    for (const c of around) counts.set(c, (counts.get(c) ?? 0) + 1)
+    const common = [...counts].sort((a, b) => b[1] - a[1])[0]![0]
     let darkRuns = 0
     let inDark = false
     for (let dx = 0; dx < 26; dx++) {
@@ -55,7 +72,7 @@ export async function villagePixels(page: Page, villages: readonly PlacedVillage
       if (dark && !inDark) darkRuns++
       inDark = dark
     }
-    return [{ name: v.name, x, y, colour: hex(...at(x, y)), darkRuns }]
+    return [{ name: v.name, x, y, colour: counts.get(around[4]!)! >= 3 ? around[4]! : common, darkRuns }]
   })
 }
 
