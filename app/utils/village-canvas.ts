@@ -25,7 +25,7 @@ const OUTLINE = '#1b1d17'
 const CELL = 48
 
 /**
- * All the villages on one canvas, drawn in one pass: one path per fill colour, so 20,000 villages cost a handful of
+ * All the villages on one canvas, drawn in one pass: one path of circles per fill colour, so 20,000 villages cost a handful of
  * fill calls instead of 20,000 Leaflet vector objects (each with its own projection, bounds and event bookkeeping).
  * Hover is hit-tested through a grid of 48-px cells built while drawing. Written by hand because Leaflet's own
  * canvas renderer keeps per-path state and redraws path by path; `npm run bench` times both side by side.
@@ -174,11 +174,20 @@ export class VillageCanvasLayer extends L.Layer {
     ctx.lineWidth = 1
     ctx.strokeStyle = OUTLINE
     for (const [fill, list] of byColour) {
-      ctx.beginPath()
-      for (const i of list) this.trace(ctx, i, 0)
       ctx.fillStyle = fill
-      ctx.fill('evenodd')
+      // Circles of one colour as one path, filled nonzero: overlapping circles stay filled (evenodd would punch
+      // holes where two overlap). Boundaries one by one, evenodd, so their holes stay holes.
+      ctx.beginPath()
+      for (const i of list) if (!this.shapes.has(i)) this.trace(ctx, i, 0)
+      ctx.fill('nonzero')
       ctx.stroke()
+      for (const i of list) {
+        if (!this.shapes.has(i)) continue
+        ctx.beginPath()
+        this.trace(ctx, i, 0)
+        ctx.fill('evenodd')
+        ctx.stroke()
+      }
     }
     if (marked.length) {
       // Below target: a thick dark ring just outside the village, readable on every class colour and without colour.

@@ -15,7 +15,7 @@ export interface VillagePixel {
   name: string
   x: number
   y: number
-  /** The composed screen's colour at the village's centre (or around it, see below), #rrggbb. */
+  /** The composed screen's colour at the village's centre (see below how it is read), #rrggbb. */
   colour: string
   /** Dark runs (outline, target ring) met going right from the centre, over 26 px. */
   darkRuns: number
@@ -58,12 +58,17 @@ export async function villagePixels(page: Page, villages: readonly PlacedVillage
     const y = Math.round(p.y - centre.y + box.height / 2)
     if (x < 10 || y < 10 || x >= box.width - 36 || y >= box.height - 10) return []
     if (box.controls.some(c => x >= c.left - 4 && x <= c.right + 4 && y >= c.top - 4 && y <= c.bottom + 4)) return []
-    // The centre pixel, or the most common colour of the 3 × 3 pixels around it if a neighbour's outline crosses it.
-    const around: string[] = []
-    for (let dy = -1; dy <= 1; dy++) for (let dx = -1; dx <= 1; dx++) around.push(hex(...at(x + dx, y + dy)))
+    // The most common colour of the 5 × 5 pixels around the centre, leaving out dark pixels: outlines and a
+    // neighbour's target ring may cross a village's centre where villages overlap.
     const counts = new Map<string, number>()
-    for (const c of around) counts.set(c, (counts.get(c) ?? 0) + 1)
-    const common = [...counts].sort((a, b) => b[1] - a[1])[0]![0]
+    for (let dy = -2; dy <= 2; dy++) {
+      for (let dx = -2; dx <= 2; dx++) {
+        const [r, g, b] = at(x + dx, y + dy)
+        if (r + g + b < 240) continue
+        counts.set(hex(r, g, b), (counts.get(hex(r, g, b)) ?? 0) + 1)
+      }
+    }
+    const colour = [...counts].sort((a, b) => b[1] - a[1])[0]?.[0] ?? 'dark'
     let darkRuns = 0
     let inDark = false
     for (let dx = 0; dx < 26; dx++) {
@@ -72,7 +77,7 @@ export async function villagePixels(page: Page, villages: readonly PlacedVillage
       if (dark && !inDark) darkRuns++
       inDark = dark
     }
-    return [{ name: v.name, x, y, colour: counts.get(around[4]!)! >= 3 ? around[4]! : common, darkRuns }]
+    return [{ name: v.name, x, y, colour, darkRuns }]
   })
 }
 
