@@ -64,7 +64,8 @@ export async function villagePixels(page: Page, villages: readonly PlacedVillage
     for (let dy = -2; dy <= 2; dy++) {
       for (let dx = -2; dx <= 2; dx++) {
         const [r, g, b] = at(x + dx, y + dy)
-        if (r + g + b < 240) continue
+        // The outline and ring colour (#1b1d17); the darkest legend classes are dark too, so only this ink is left out.
+        if (Math.abs(r - 0x1B) <= 12 && Math.abs(g - 0x1D) <= 12 && Math.abs(b - 0x17) <= 12) continue
         counts.set(hex(r, g, b), (counts.get(hex(r, g, b)) ?? 0) + 1)
       }
     }
