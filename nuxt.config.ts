@@ -47,6 +47,9 @@ export default defineNuxtConfig({
   compatibilityDate: '2026-11-01',
   nitro: {
     experimental: { tasks: false },
+    // Static files are compressed once at build (gzip and brotli beside each file) and served with the encoding
+    // the browser accepts: the tablet's first load over a rural link is a third of its raw size.
+    compressPublicAssets: { gzip: true, brotli: true },
     hooks: {
       // Model fits run in worker threads; the worker needs a file of its own beside the built server.
       async compiled(nitro) {
@@ -85,11 +88,17 @@ export default defineNuxtConfig({
       navigateFallbackDenylist: [/^\/api\//],
       additionalManifestEntries: [{ url: '/field', revision: BUILD_ID }],
       globPatterns: ['**/*.{js,css,html,svg,png,woff,woff2,json}'],
-      // The map's base layer (Natural Earth outlines, about 750 kB) must be there offline.
-      maximumFileSizeToCacheInBytes: 3 * 1024 * 1024,
+      // The map's base layer (Natural Earth outlines, 750 kB) is not precached: every tablet would download it
+      // on its first visit. The map keeps it in a runtime cache when it is first drawn online (below).
+      globIgnores: ['**/countries-*.json'],
       // The adoption map opens offline with the figures last seen online: its page and its aggregate data
       // are kept network-first (the network always wins when there is one).
       runtimeCaching: [
+        {
+          urlPattern: ({ url }) => /\/_nuxt\/countries-[^/]+\.json$/.test(url.pathname),
+          handler: 'CacheFirst',
+          options: { cacheName: 'furrowcast-map-outlines', expiration: { maxEntries: 2 } }
+        },
         {
           urlPattern: ({ url, request }) => request.mode === 'navigate' && url.pathname === '/overview',
           handler: 'NetworkFirst',

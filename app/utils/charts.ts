@@ -1,5 +1,14 @@
+import { BarElement, CategoryScale, Chart, Legend, LinearScale, LineElement, PointElement, Tooltip } from 'chart.js'
+
 // Shared pieces of the model charts. Colours come from the Furrowcast palette; the pair differs in lightness
 // as well as hue, so it stays readable for colour-blind viewers and in grey print.
+// Only the Chart.js parts the model charts use, registered when the first chart component loads this module:
+// registering them in a plugin put Chart.js into every page's first load, the tablet's included.
+Chart.register(BarElement, CategoryScale, Legend, LinearScale, LineElement, PointElement, Tooltip)
+Chart.defaults.font.family = '"Atkinson Hyperlegible", system-ui, sans-serif'
+Chart.defaults.font.size = 14
+Chart.defaults.color = '#1b1d17'
+
 export const CHART = {
   primary: '#24523a',
   primarySoft: 'rgba(36, 82, 58, 0.25)',

@@ -16,3 +16,19 @@ export function mapClasses(mode: MapMode): { classes: ClassBreaks, min: number, 
     ? { classes: equalBreaks(-0.35, 0.35, GAP_PALETTE), min: -0.35, max: 0.35 }
     : { classes: equalBreaks(0, 0.7, ADOPTION_PALETTE), min: 0, max: 0.7 }
 }
+
+/** The value a village shows in a view, as text: percent for shares, signed points for the gap. */
+export function viewValueText(v: MapVillage, mode: MapMode): string {
+  const value = mapValue(v, mode)
+  if (value === null) return v.suppressed ? 'too few visits to show' : '—'
+  if (mode === 'gap') return `${value >= 0 ? '+' : '−'}${Math.abs(value * 100).toFixed(1)} points`
+  return `${(value * 100).toFixed(1)} %`
+}
+
+/** The heading of a view's values (legend and table column). */
+export function viewTitle(mode: MapMode): string {
+  if (mode === 'gap') return 'Observed − predicted (points)'
+  if (mode === 'observed') return 'Observed adoption (%)'
+  if (mode.startsWith('scenario:')) return `Scenario “${mode.slice(9)}” (%)`
+  return 'Predicted adoption (%)'
+}

@@ -1,9 +1,8 @@
 import { Op } from 'sequelize'
 import type { MapVillage } from '#shared/types/overview'
+import { funderFigures, funderHeadline, funderVillages } from './funder-view'
 import { funderOrganisationOf } from '#shared/utils/funders'
-import { hiddenVillages, shownMean } from '#shared/utils/suppression'
 import { Organisation, Publication, Round, Village, settingsOf } from '../db/models'
-import type { PublishedContent } from '../db/models/publication'
 import type { SignedInUser } from './access'
 
 // Everything here is built from frozen publications and village records: no visit, answer, photo, GPS point
@@ -13,7 +12,7 @@ import type { SignedInUser } from './access'
  * The organisation's small-cell threshold, after checking that a funder's e-mail domain is one of the funder
  * organisations the admins listed in the settings (an empty list shares with no funder).
  */
-async function minimumVisits(user: SignedInUser): Promise<number> {
+export async function minimumVisits(user: SignedInUser): Promise<number> {
   const organisation = await Organisation.findByPk(user.organisationId)
   const settings = organisation ? settingsOf(organisation) : null
   if (user.role === 'funder' && !funderOrganisationOf(user.email, settings?.funderOrganisations ?? [])) {
@@ -22,40 +21,12 @@ async function minimumVisits(user: SignedInUser): Promise<number> {
   return settings?.minVisitsForFunders ?? 5
 }
 
-/**
- * What funders may see of one publication: the villages to hide (shared/utils/suppression.ts) and the round
- * figures computed over the shown villages only, so no subtraction can bring a hidden village back.
- */
-export function funderFigures(content: PublishedContent, minVisits: number) {
-  const hidden = hiddenVillages(content.villages, minVisits)
-  const shown = content.villages.filter(v => !hidden.has(v.village))
-  const visitsOf = new Map(shown.map(v => [v.village, v.n]))
-  const complete = hidden.size === 0
-  return {
-    hidden,
-    shown,
-    farmsVisited: shown.reduce((s, v) => s + v.n, 0),
-    observedRate: complete ? content.overall.observedRate : shownMean(shown.map(v => ({ n: v.n, value: v.observedRate }))),
-    predicted: complete
-      ? { estimate: content.overall.estimate as number | null, ciLow: content.overall.ciLow, ciHigh: content.overall.ciHigh }
-      : { estimate: shownMean(shown.map(v => ({ n: v.n, value: v.estimate }))), ciLow: null, ciHigh: null },
-    scenarios: content.scenarios.map(s => ({
-      name: s.name,
-      description: s.description,
-      change: complete
-        ? s.overall.estimate as number | null
-        : shownMean(s.villages.filter(sv => visitsOf.has(sv.village)).map(sv => ({ n: visitsOf.get(sv.village)!, value: sv.estimate })))
-    }))
-  }
-}
-
 export async function publishedRounds(user: SignedInUser) {
   const publications = await Publication.findAll({ where: { organisationId: user.organisationId, active: true }, order: [['createdAt', 'DESC']] })
   const rounds = await Round.findAll({ where: { id: { [Op.in]: publications.map(p => p.roundId) } } })
   const minVisits = await minimumVisits(user)
   return publications.map((p) => {
     const round = rounds.find(r => r.id === p.roundId)
-    const figures = funderFigures(p.content, minVisits)
     return {
       roundId: p.roundId,
       round: round?.name ?? '',
@@ -63,14 +34,7 @@ export async function publishedRounds(user: SignedInUser) {
       season: round?.season ?? '',
       note: p.note,
       publishedAt: p.createdAt.toISOString(),
-      farmsVisited: figures.farmsVisited,
-      observedRate: figures.observedRate,
-      predicted: figures.predicted,
-      villages: p.content.villages.length,
-      suppressedVillages: figures.hidden.size,
-      targetRate: p.content.targetRate,
-      villagesBelowTarget: figures.shown.filter(v => v.estimate < p.content.targetRate).length,
-      scenarios: figures.scenarios
+      ...funderHeadline(p.content, minVisits)
     }
   })
 }
@@ -81,26 +45,7 @@ export async function publishedMap(user: SignedInUser, roundId: number): Promise
   if (!publication) throw createError({ statusCode: 404, message: 'This round has no published results.' })
   const minVisits = await minimumVisits(user)
   const places = await Village.findAll({ where: { organisationId: user.organisationId, code: { [Op.in]: publication.content.villages.map(v => v.village) } } })
-  const hidden = hiddenVillages(publication.content.villages, minVisits)
-  const villages = publication.content.villages.flatMap((v): MapVillage[] => {
-    const place = places.find(p => p.code === v.village)
-    if (!place) return []
-    const suppressed = hidden.has(v.village)
-    return [{
-      code: place.code,
-      name: place.name,
-      lat: place.centreLat,
-      lon: place.centreLon,
-      boundary: (place.boundary as GeoJSON.Geometry | null) ?? null,
-      visits: suppressed ? null : v.n,
-      suppressed,
-      observedRate: suppressed ? null : v.observedRate,
-      predicted: suppressed ? null : { estimate: v.estimate, ciLow: v.ciLow, ciHigh: v.ciHigh },
-      scenarios: suppressed
-        ? {}
-        : Object.fromEntries(publication.content.scenarios.flatMap(s => s.villages.filter(sv => sv.village === v.village).map(sv => [s.name, sv.scenario])))
-    }]
-  })
+  const villages = funderVillages(publication.content, places, minVisits)
   return { villages, scenarios: publication.content.scenarios.map(s => s.name), previous: await previousRound(user.organisationId, roundId, minVisits) }
 }
 

@@ -2,7 +2,10 @@ import type { H3Event } from 'h3'
 import type { PublishRequest } from '#shared/utils/modelling/request'
 import { database } from '../db/connection'
 import { funderOrganisationOf } from '#shared/utils/funders'
-import { Organisation, Publication, Round, User, settingsOf, type ModelRun } from '../db/models'
+import { Op } from 'sequelize'
+import { Organisation, Publication, Round, User, Village, settingsOf, type ModelRun } from '../db/models'
+import type { PublishedContent } from '../db/models/publication'
+import { funderHeadline, funderVillages } from './funder-view'
 import type { SignedInUser } from './access'
 
 /**
@@ -10,12 +13,7 @@ import type { SignedInUser } from './access'
  * A previous publication of the round is withdrawn in the same transaction; both steps are audited.
  */
 export async function publishRun(event: H3Event, user: SignedInUser, run: ModelRun, request: PublishRequest) {
-  const results = run.results
-  if (run.status !== 'done' || !results) throw createError({ statusCode: 409, message: 'Only a finished fit can be published.' })
-  if (!results.converged) throw createError({ statusCode: 409, message: 'This fit did not converge; it cannot be published.' })
-  if (!results.villages) throw createError({ statusCode: 409, message: 'This fit has no village predictions (it was not clustered by village).' })
-  const round = await Round.findOne({ where: { id: run.roundId, organisationId: user.organisationId } })
-  if (!round) throw createError({ statusCode: 404, message: 'No such survey round.' })
+  const { round, content } = await contentToPublish(user, run, request)
 
   const publication = await database().transaction(async (transaction) => {
     const previous = await Publication.findOne({ where: { roundId: run.roundId, organisationId: user.organisationId, active: true }, transaction, lock: transaction.LOCK.UPDATE })
@@ -30,27 +28,65 @@ export async function publishRun(event: H3Event, user: SignedInUser, run: ModelR
       tabletAid: request.tabletAid,
       publishedBy: user.id,
       withdrawnAt: null,
-      content: {
-        link: results.link,
-        plan: results.plan,
-        coefficients: results.coefficients.map(c => ({ term: c.term, label: c.label, estimate: c.estimate })),
-        overall: results.overall,
-        villages: results.villages!,
-        scenarios: results.scenarios,
-        farmsVisited: results.rows.used,
-        targetRate: request.targetRate
-      }
+      content
     }, { transaction })
+    await round.update({ targetVisitsPerVillage: request.targetVisitsPerVillage }, { transaction })
     await audit(event, user, {
       action: previous ? 'publication.replace' : 'publication.publish',
       entityType: 'publication',
       entityId: created.id,
-      details: { roundId: run.roundId, modelRunId: run.id, replaced: previous?.id ?? null }
+      details: { roundId: run.roundId, modelRunId: run.id, replaced: previous?.id ?? null, scenarios: content.scenarios.map(sc => sc.name), targetVisitsPerVillage: request.targetVisitsPerVillage }
     }, transaction)
     return created
   })
   await notifyPublished(round, publication)
   return publication
+}
+
+type ContentChoices = Pick<PublishRequest, 'targetRate' | 'scenarioNames' | 'targetVisitsPerVillage'>
+
+/**
+ * What publishing this run would freeze: only the scenarios the coordinator chose (the others are explorations
+ * and never reach funders), the adoption target and the round's target of visits per village.
+ */
+async function contentToPublish(user: SignedInUser, run: ModelRun, request: ContentChoices): Promise<{ round: Round, content: PublishedContent }> {
+  const results = run.results
+  if (run.status !== 'done' || !results) throw createError({ statusCode: 409, message: 'Only a finished fit can be published.' })
+  if (!results.converged) throw createError({ statusCode: 409, message: 'This fit did not converge; it cannot be published.' })
+  if (!results.villages) throw createError({ statusCode: 409, message: 'This fit has no village predictions (it was not clustered by village).' })
+  const round = await Round.findOne({ where: { id: run.roundId, organisationId: user.organisationId } })
+  if (!round) throw createError({ statusCode: 404, message: 'No such survey round.' })
+  const unknown = request.scenarioNames.filter(name => !results.scenarios.some(s => s.name === name))
+  if (unknown.length) throw createError({ statusCode: 400, message: `This fit has no scenario named “${unknown[0]}”.` })
+  return {
+    round,
+    content: {
+      link: results.link,
+      plan: results.plan,
+      coefficients: results.coefficients.map(c => ({ term: c.term, label: c.label, estimate: c.estimate })),
+      overall: results.overall,
+      villages: results.villages,
+      scenarios: results.scenarios.filter(s => request.scenarioNames.includes(s.name)),
+      farmsVisited: results.rows.used,
+      targetRate: request.targetRate,
+      targetVisits: request.targetVisitsPerVillage
+    }
+  }
+}
+
+/** The map, table and headline funders would see if this run were published with these choices; nothing is written. */
+export async function publishPreview(user: SignedInUser, run: ModelRun, request: ContentChoices) {
+  const { round, content } = await contentToPublish(user, run, request)
+  const organisation = await Organisation.findByPk(user.organisationId)
+  const minVisits = organisation ? settingsOf(organisation).minVisitsForFunders : 5
+  const places = await Village.findAll({ where: { organisationId: user.organisationId, code: { [Op.in]: content.villages.map(v => v.village) } } })
+  return {
+    round: { round: round.name, technology: round.technology, season: round.season },
+    minVisits,
+    headline: funderHeadline(content, minVisits),
+    villages: funderVillages(content, places, minVisits),
+    scenarios: content.scenarios.map(s => s.name)
+  }
 }
 
 export async function withdrawPublication(event: H3Event, user: SignedInUser, roundId: number) {

@@ -1,26 +1,30 @@
 import { readFileSync } from 'node:fs'
 import { strFromU8, unzipSync } from 'fflate'
 import path from 'node:path'
+import { PNG } from 'pngjs'
 import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
-import { Publication, Round, Visit } from '../../server/db/models'
+import { Publication, Round, Village, Visit } from '../../server/db/models'
 import { predictFarm } from '../../shared/utils/modelling/farm-prediction'
-import { ADOPTION_PALETTE } from '../../shared/utils/map-palette'
 import { closeTestDatabase, testDatabase } from '../support/database'
+import { legendColours, tableColours, villagePixels, type PlacedVillage } from '../support/map-screen'
 import { DEMO, baseUrl, demoUser } from '../support/server'
 
 let browser: Browser
 
 let accepted = 0
 let roundId = 0
+let round: Round
+// Above the demo villages' median number of visits (about 62), so that some villages fall below it.
+const VISIT_TARGET = 64
 
 beforeAll(async () => {
   baseUrl()
   testDatabase()
   // The seeded round is the first one; other test files may have accepted a few more of its visits.
-  const round = await Round.findOne({ order: [['id', 'ASC']] })
-  roundId = round!.id
+  round = (await Round.findOne({ order: [['id', 'ASC']] }))!
+  roundId = round.id
   accepted = await Visit.count({ where: { roundId, reviewState: 'accepted' } })
   browser = await launchBrowser()
 })
@@ -29,21 +33,28 @@ afterAll(async () => {
   await closeTestDatabase()
 })
 
-/** Counts canvas pixels of the map that are exactly one of the adoption palette's colours. */
-function paletteColoursOnMap(page: Page): Promise<number> {
-  return page.evaluate((palette) => {
-    const wanted = new Set(palette.map(h => h.toLowerCase()))
-    let hits = 0
-    for (const canvas of document.querySelectorAll<HTMLCanvasElement>('[data-testid="adoption-map"] canvas')) {
-      const data = canvas.getContext('2d')!.getImageData(0, 0, canvas.width, canvas.height).data
-      for (let i = 0; i < data.length; i += 4) {
-        const hex = `#${[data[i]!, data[i + 1]!, data[i + 2]!].map(v => v.toString(16).padStart(2, '0')).join('')}`
-        if (wanted.has(hex)) hits++
-      }
-    }
-    return hits
-  }, [...ADOPTION_PALETTE])
+/** The villages of a published round with their positions, as the funder's data route gives them. */
+async function placedVillages(page: Page, round: number) {
+  const answer = await page.request.get(`/api/overview/${round}`)
+  expect(answer.status()).toBe(200)
+  return (await answer.json() as { villages: Array<{ name: string, lat: number, lon: number }> }).villages
 }
+
+/**
+ * Checks the composed screen: each village inside the visible map shows, at its centre, a colour of the legend,
+ * and (mostly: a neighbour's circle may overlap a centre, the more so zoomed out) the colour the table gives it. Answers a
+ * description of what is wrong, '' when all is right, so that expect.poll can wait for a redraw.
+ */
+async function mapShowsVillages(page: Page, villages: PlacedVillage[], minimum: number, scope = page.locator('body'), ownShare = 0.85) {
+  const [pixels, legend, table] = await Promise.all([villagePixels(page, villages, scope), legendColours(page, scope), tableColours(page, scope)])
+  if (pixels.length < minimum) return `only ${pixels.length} villages inside the map`
+  const outside = pixels.filter(p => !legend.includes(p.colour))
+  if (outside.length) return `not a legend colour at ${outside.map(p => `${p.name} ${p.colour}`).join(', ')}`
+  const own = pixels.filter(p => table.get(p.name) === p.colour).length
+  return own >= Math.ceil(ownShare * pixels.length) ? '' : `only ${own} of ${pixels.length} villages show their table colour`
+}
+
+const viewPicker = (page: Page) => page.locator('fieldset[aria-label="What the map shows"]')
 
 async function signIn(page: Page, role: string, next = '/') {
   await page.goto(`/signin?next=${encodeURIComponent(next)}`)
@@ -120,9 +131,41 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     const distance = effects.find(l => l.startsWith('Distance to the nearest input dealer'))!.split(',')
     expect(`${Number(distance[3]) >= 0 ? '+' : ''}${Number(distance[3]).toFixed(1)}`).toBe(onScreen)
 
-    await page.getByLabel('Note for readers').fill('Results of the first sorghum round')
-    await page.getByLabel('Show the planning aid on enumerators\' tablets').check()
+    // A second scenario, only explored: it is not chosen for publication and must never reach funders.
+    await page.getByLabel('Scenario name').fill('trial without extension')
+    await page.getByLabel('Characteristic').selectOption({ label: 'Contact with an extension officer last season?' })
+    await page.locator('#scenario-value').selectOption('no')
+    await page.getByRole('button', { name: 'Predict adoption under this scenario' }).click()
+    await expect.poll(() => page.getByTestId('scenario-result').filter({ hasText: 'trial without extension' }).count(), { timeout: 20_000 }).toBe(1)
+
+    // Publishing: choices, then a preview of the funder's page, then the confirmation.
     await page.getByRole('button', { name: /Publish this fit/ }).click()
+    await page.getByLabel('Note for readers').fill('Results of the first sorghum round')
+    await page.getByLabel('Visits wanted per village (target)').fill(String(VISIT_TARGET))
+    await page.getByRole('checkbox', { name: /extension for all/ }).check()
+    await page.getByLabel('Show the planning aid on enumerators\' tablets').check()
+    await page.getByRole('button', { name: 'Preview what funders will see' }).click()
+    const preview = page.getByTestId('publish-preview')
+    await expect.poll(() => preview.getByTestId('map-village').count(), { timeout: 15_000 }).toBe(24)
+    expect(await preview.textContent()).toMatch(/Scenarios shown: extension for all\./)
+    expect(await preview.textContent()).not.toContain('trial without extension')
+    const below = await preview.locator('[data-below-target="yes"]').count()
+    expect(below).toBeGreaterThan(0)
+    expect(below).toBeLessThan(24)
+    expect(await preview.locator('[data-below-target="yes"]').first().textContent()).toContain('below target')
+    // The preview's map, on the composed screen: every village in a legend colour, the marked ones ringed.
+    // Positions from the database, for the villages of the round (the table's rows; other tests add villages elsewhere).
+    const inTable = new Set((await preview.locator('[data-testid="map-village"] td:first-child').allTextContents()).map(t => t.trim()))
+    const places = (await Village.findAll({ where: { organisationId: round.organisationId } }))
+      .filter(v => inTable.has(v.name)).map(v => ({ name: v.name, lat: v.centreLat, lon: v.centreLon }))
+    expect(places).toHaveLength(24)
+    await preview.getByTestId('adoption-map').screenshot({ path: path.join(SCREENSHOTS, 'publish-preview-map.png') })
+    await expect.poll(() => mapShowsVillages(page, places, 20, preview), { timeout: 10_000 }).toBe('')
+    const markedNames = new Set((await preview.locator('[data-below-target="yes"] td:first-child').allTextContents()).map(t => t.trim()))
+    const pixels = await villagePixels(page, places, preview)
+    expect(pixels.filter(p => markedNames.has(p.name)).some(p => p.darkRuns >= 2)).toBe(true)
+    await preview.screenshot({ path: path.join(SCREENSHOTS, 'publish-preview.png') })
+    await page.getByRole('button', { name: 'Yes, publish to funders' }).click()
     await expect.poll(() => page.getByRole('status').filter({ hasText: 'Published' }).count()).toBe(1)
     await context.close()
   })
@@ -193,22 +236,56 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await context.close()
   })
 
-  it('shows the funder the headline, one mark per published village, and the gap view', async () => {
+  it('shows the funder every village above the base layer, in every view and at every zoom', async () => {
     const context = await newTabletContext(browser)
     const page = await context.newPage()
     await signIn(page, 'funder', '/overview')
     await page.goto(`/overview?round=${roundId}`)
     await expect.poll(() => page.getByTestId('headline').textContent(), { timeout: 15_000 }).toMatch(new RegExp(`Farms visited\\s*${accepted}`))
     await expect.poll(() => page.getByTestId('map-village').count()).toBe(24)
-    // Every village is drawn on the map's canvas, and its pixels carry the palette's colours.
     await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-villages-drawn')).toBe('24')
-    await expect.poll(() => paletteColoursOnMap(page)).toBeGreaterThan(0)
-    const before = await page.getByTestId('map-village').locator('[data-colour]').evaluateAll(els => els.map(e => e.getAttribute('data-colour')))
-    await page.getByText('Gap: observed − predicted').click()
-    await expect.poll(() => page.getByTestId('map-legend').textContent()).toMatch(/Observed − predicted/)
-    const after = await page.getByTestId('map-village').locator('[data-colour]').evaluateAll(els => els.map(e => e.getAttribute('data-colour')))
-    expect(after).not.toEqual(before)
+    await page.getByText('The villages as a table').click()
+    const villages = await placedVillages(page, roundId)
+    // Only the scenario the coordinator chose is published; the exploratory one never reaches the funder.
+    expect(await page.locator('body').textContent()).not.toContain('trial without extension')
+    const views = ['Predicted adoption', 'Observed adoption', 'Gap: observed − predicted', 'Scenario: extension for all']
+    const shown: string[][] = []
+    for (const view of views) {
+      await viewPicker(page).getByText(view, { exact: true }).click()
+      await expect.poll(() => mapShowsVillages(page, villages, 20), { timeout: 10_000 }).toBe('')
+      // The table's value column follows the view.
+      expect(await page.getByTestId('map-view-column').textContent()).toMatch(view.startsWith('Scenario') ? /extension for all/ : view.startsWith('Gap') ? /Observed − predicted/ : new RegExp(view, 'i'))
+      shown.push(await page.getByTestId('map-view-value').allTextContents())
+    }
+    expect(new Set(shown.map(s => s.join('|'))).size).toBe(views.length)
+    expect(shown[2]!.every(t => /^[+−]\d+\.\d points$/.test(t.trim()))).toBe(true)
+    // Villages below the coordinator's target of visits are marked in the table and ringed on the map.
+    const marked = new Set((await page.locator('[data-below-target="yes"] td:first-child').allTextContents()).map(t => t.trim()))
+    expect(marked.size).toBeGreaterThan(0)
+    expect((await villagePixels(page, villages)).filter(p => marked.has(p.name)).some(p => p.darkRuns >= 2)).toBe(true)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'funder-map.png'), fullPage: true })
+
+    // Zoomed in, then out three times from where it opened: whatever is inside the map still shows. Zoomed out,
+    // circles (sized in pixels) overlap, so only the legend colours are required there.
+    await viewPicker(page).getByText('Predicted adoption', { exact: true }).click()
+    for (const [button, minimum, ownShare] of [['Zoom in', 3, 0.85], ['Zoom out', 20, 0.85], ['Zoom out', 20, 0], ['Zoom out', 20, 0]] as const) {
+      const before = await page.getByTestId('adoption-map').getAttribute('data-view')
+      await page.getByRole('button', { name: button }).click()
+      await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-view')).not.toBe(before)
+      await expect.poll(() => mapShowsVillages(page, villages, minimum, page.locator('body'), ownShare), { timeout: 10_000 }).toBe('')
+    }
+    await page.getByTestId('adoption-map').screenshot({ path: path.join(SCREENSHOTS, 'funder-map-zoomed-out.png') })
+    await context.close()
+  })
+
+  it('shows the coordinator the same map on the adoption map page', async () => {
+    const context = await newTabletContext(browser)
+    const page = await context.newPage()
+    await signIn(page, 'coordinator', '/overview')
+    await page.goto(`/overview?round=${roundId}`)
+    await expect.poll(() => page.getByTestId('map-village').count(), { timeout: 15_000 }).toBe(24)
+    const villages = await placedVillages(page, roundId)
+    await expect.poll(() => mapShowsVillages(page, villages, 20), { timeout: 10_000 }).toBe('')
     await context.close()
   })
 
@@ -221,16 +298,19 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await page.reload()
     await expect.poll(() => page.evaluate(() => navigator.serviceWorker.controller !== null)).toBe(true)
     await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-villages-drawn')).toBe('24')
+    const villages = await placedVillages(page, roundId)
     await context.setOffline(true)
     await page.reload()
     await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-villages-drawn'), { timeout: 20_000 }).toBe('24')
-    await expect.poll(() => paletteColoursOnMap(page)).toBeGreaterThan(0)
-    // The base layer is drawn from the outlines shipped with the app: its land colour is on the canvas.
-    expect(await page.evaluate(() => [...document.querySelectorAll<HTMLCanvasElement>('[data-testid="adoption-map"] canvas')].some((canvas) => {
-      const data = canvas.getContext('2d')!.getImageData(0, 0, canvas.width, canvas.height).data
-      for (let i = 0; i < data.length; i += 4) if (data[i] === 0xEC && data[i + 1] === 0xE6 && data[i + 2] === 0xD3) return true
-      return false
-    }))).toBe(true)
+    await page.getByText('The villages as a table').click()
+    await expect.poll(() => mapShowsVillages(page, villages, 20), { timeout: 10_000 }).toBe('')
+    // The base layer is drawn from the outlines shipped with the app: its land fill is on the screen, under the villages.
+    const shot = PNG.sync.read(await page.getByTestId('adoption-map').screenshot())
+    let land = 0
+    for (let i = 0; i < shot.data.length; i += 4) {
+      if (Math.abs(shot.data[i]! - 0xEC) <= 2 && Math.abs(shot.data[i + 1]! - 0xE6) <= 2 && Math.abs(shot.data[i + 2]! - 0xD3) <= 2) land++
+    }
+    expect(land).toBeGreaterThan(1000)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'funder-map-offline.png') })
     await context.close()
   })

@@ -43,6 +43,7 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path:
   { method: 'POST', path: '/api/models/999999/rerun', roles: ['coordinator'], ok: 404 },
   { method: 'POST', path: '/api/models/999999/scenarios', roles: ['coordinator'], ok: 400 },
   { method: 'POST', path: '/api/models/999999/publish', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/models/999999/publish-preview', roles: ['coordinator'], ok: 400 },
   { method: 'GET', path: '/api/models/999999/export', roles: ['coordinator'], ok: 404 },
   { method: 'GET', path: '/api/publications?roundId=:round', roles: ['coordinator'] },
   { method: 'DELETE', path: '/api/publications/999999', roles: ['coordinator'], ok: 404 },

@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { AuditEntry, ModelRun, Organisation, Publication, Round, Visit, Village } from '../../server/db/models'
 import { runModel } from '../../shared/utils/stats'
 import type { ModelRunDetail, ModelRunSummary } from '../../shared/types/models'
+import type { PublishPreview } from '../../shared/types/overview'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { type Client, baseUrl, demoUser, freshClient } from '../support/server'
 import { rectangular } from '../support/csv'
@@ -167,7 +168,7 @@ describe('fitting a model of the demo round', () => {
       expect(overview.body.map(r => r.roundId)).toContain(roundId)
       const map = await funder.get<{ villages: Array<Record<string, unknown>> }>(`/api/overview/${roundId}`)
       expect(map.body.villages).toHaveLength(24)
-      const allowed = ['code', 'name', 'lat', 'lon', 'boundary', 'visits', 'suppressed', 'observedRate', 'predicted', 'scenarios']
+      const allowed = ['code', 'name', 'lat', 'lon', 'boundary', 'visits', 'suppressed', 'belowVisitTarget', 'observedRate', 'predicted', 'scenarios']
       for (const v of map.body.villages) expect(Object.keys(v).every(k => allowed.includes(k))).toBe(true)
       expect(JSON.stringify(map.body)).not.toMatch(/farmCode|answers|enumerator|photo|accuracy/i)
       const outbox = process.env.OUTBOX_DIR!
@@ -215,6 +216,50 @@ describe('fitting a model of the demo round', () => {
       await Publication.create({ organisationId: round!.organisationId, roundId: earlier.id, modelRunId: current!.modelRunId, note: 'earlier', content, publishedBy: current!.publishedBy, withdrawnAt: null })
       const map = await funder.get<{ previous: { round: string, predicted: number } | null }>(`/api/overview/${roundId}`)
       expect(map.body.previous).toEqual({ round: 'Sorghum seed adoption, long rains (earlier)', predicted: 0.21 })
+    })
+
+    it('previews what funders will see without writing, then publishes only the chosen scenarios and the visit target', async () => {
+      // An exploratory scenario beside the one the coordinator means to publish.
+      expect((await coordinator.post(`/api/models/${run.id}/scenarios`, { scenarios: [{ name: 'exploring: no extension', covariate: 'extension_contact', set: false }] })).status).toBe(200)
+      const publications = await Publication.count()
+      const preview = await coordinator.post<PublishPreview>(`/api/models/${run.id}/publish-preview`, { scenarioNames: ['extension for all'], targetVisitsPerVillage: 64, targetRate: 0.3 })
+      expect(preview.status).toBe(200)
+      expect(await Publication.count()).toBe(publications)
+      expect(preview.body.scenarios).toEqual(['extension for all'])
+      expect(JSON.stringify(preview.body)).not.toContain('exploring: no extension')
+      const fewer = run.results!.villages!.filter(v => v.n < 64).map(v => v.village).sort()
+      expect(fewer.length).toBeGreaterThan(0)
+      expect(preview.body.villages.filter(v => v.belowVisitTarget).map(v => v.code).sort()).toEqual(fewer)
+      expect(preview.body.headline.villagesBelowVisitTarget).toBe(fewer.length)
+      expect(preview.body.villages.every(v => Object.keys(v.scenarios).join() === 'extension for all')).toBe(true)
+
+      const unknown = await coordinator.post(`/api/models/${run.id}/publish-preview`, { scenarioNames: ['no such scenario'] })
+      expect(unknown.status).toBe(400)
+      expect(unknown.body.message).toMatch(/no scenario named “no such scenario”/)
+      expect((await coordinator.post(`/api/models/${run.id}/publish-preview`, { targetVisitsPerVillage: 0 })).status).toBe(400)
+
+      expect((await coordinator.post(`/api/models/${run.id}/publish`, { note: 'With one scenario', scenarioNames: ['extension for all'], targetVisitsPerVillage: 64 })).status).toBe(200)
+      const map = await funder.get<{ scenarios: string[], villages: Array<{ code: string, belowVisitTarget: boolean }> }>(`/api/overview/${roundId}`)
+      expect(map.body.scenarios).toEqual(['extension for all'])
+      expect(JSON.stringify(map.body)).not.toContain('exploring: no extension')
+      expect(map.body.villages.filter(v => v.belowVisitTarget).map(v => v.code).sort()).toEqual(fewer)
+      expect((await Round.findByPk(roundId))!.targetVisitsPerVillage).toBe(64)
+    })
+
+    it('shows suppressed villages in the preview as funders will see them', async () => {
+      const organisation = await Organisation.findOne({ where: { id: (await Round.findByPk(roundId))!.organisationId } })
+      const settings = organisation!.settings
+      await organisation!.update({ settings: { ...settings, minVisitsForFunders: 100_000 } })
+      try {
+        const preview = await coordinator.post<PublishPreview>(`/api/models/${run.id}/publish-preview`, {})
+        expect(preview.status).toBe(200)
+        expect(preview.body.minVisits).toBe(100_000)
+        expect(preview.body.headline.suppressedVillages).toBe(24)
+        expect(preview.body.villages.every(v => v.suppressed && v.visits === null && v.predicted === null && v.observedRate === null)).toBe(true)
+      }
+      finally {
+        await organisation!.update({ settings })
+      }
     })
 
     it('audits replacing and withdrawing, after which funders see nothing of the round', async () => {

@@ -7,5 +7,5 @@ const querySchema = z.object({ roundId: z.coerce.number().int().positive() })
 export default defineRoleHandler(['coordinator'], async (event, user) => {
   const { roundId } = await getValidatedQuery(event, validateWith(querySchema))
   const rows = await Publication.findAll({ where: { organisationId: user.organisationId, roundId }, order: [['id', 'DESC']] })
-  return rows.map(p => ({ id: p.id, modelRunId: p.modelRunId, note: p.note, active: p.active, tabletAid: p.tabletAid, publishedAt: p.createdAt.toISOString(), withdrawnAt: p.withdrawnAt?.toISOString() ?? null }))
+  return rows.map(p => ({ id: p.id, modelRunId: p.modelRunId, note: p.note, active: p.active, tabletAid: p.tabletAid, publishedAt: p.createdAt.toISOString(), withdrawnAt: p.withdrawnAt?.toISOString() ?? null, scenarioNames: p.content.scenarios.map(sc => sc.name), targetRate: p.content.targetRate, targetVisits: p.content.targetVisits ?? null }))
 })

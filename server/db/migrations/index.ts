@@ -6,6 +6,7 @@ import * as m0005 from './0005-publications'
 import * as m0006 from './0006-imports'
 import * as m0020 from './0020-utf8mb4-everywhere'
 import * as m0040 from './0040-data-version'
+import * as m0050 from './0050-round-visit-target'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
 // Add a new file as NNNN-what-it-does.ts and append it here.
@@ -17,5 +18,6 @@ export const MIGRATIONS = [
   { name: '0005-publications', ...m0005 },
   { name: '0006-imports', ...m0006 },
   { name: '0020-utf8mb4-everywhere', ...m0020 },
-  { name: '0040-data-version', ...m0040 }
+  { name: '0040-data-version', ...m0040 },
+  { name: '0050-round-visit-target', ...m0050 }
 ]

@@ -14,6 +14,8 @@ export interface PublishedContent {
   farmsVisited: number
   /** Villages whose predicted adoption is below this share are flagged for the funder. */
   targetRate: number
+  /** The round's target of visits per village when published (absent in publications made before it existed). */
+  targetVisits?: number | null
 }
 
 /** The one model run of a round that funders and tablets see. Replaced or withdrawn rows stay, inactive. */

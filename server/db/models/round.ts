@@ -14,6 +14,8 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
   declare currentVersionId: number | null
   /** Goes up by one in the same transaction as every change to the round's accepted visits (see `bumpDataVersion`). */
   declare dataVersion: CreationOptional<number>
+  /** Visits wanted per village; villages below it are marked on the map. Null: no target set. */
+  declare targetVisitsPerVillage: CreationOptional<number | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -27,6 +29,7 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
       status: { type: DataTypes.ENUM(...ROUND_STATUSES), allowNull: false, defaultValue: 'draft' },
       currentVersionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       dataVersion: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+      targetVisitsPerVillage: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: true },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'rounds' })

@@ -92,6 +92,13 @@ export const publishRequestSchema = z.object({
   /** Villages predicted below this share are flagged to funders (0–1). */
   targetRate: z.number().min(0).max(1).default(0.3),
   /** Show the farm-level planning aid on enumerators' tablets for this round. Off by default. */
-  tabletAid: z.boolean().default(false)
+  tabletAid: z.boolean().default(false),
+  /** The scenarios funders may see, by name; the others stay the coordinator's own explorations. */
+  scenarioNames: z.array(z.string().max(200)).max(100).default([]),
+  /** Visits wanted per village, kept on the round; villages below it are marked. Null: no target. */
+  targetVisitsPerVillage: z.number().int().min(1, 'The target is at least 1 visit').max(10_000).nullable().default(null)
 })
 export type PublishRequest = z.infer<typeof publishRequestSchema>
+
+/** What the publish preview needs: the choices that change what funders will see. */
+export const publishPreviewSchema = publishRequestSchema.pick({ targetRate: true, scenarioNames: true, targetVisitsPerVillage: true })

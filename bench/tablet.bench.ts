@@ -1,0 +1,133 @@
+/**
+ * Tablet first-load benchmark: an enumerator opens /field on an empty cache over an emulated rural link
+ * (Chromium's network emulation through CDP: 1.6 Mbit/s down, 750 kbit/s up, 150 ms latency) and starts a visit.
+ * Times from navigation until the visit form is usable (its first field visible and enabled; target ≤ 3 s) and
+ * counts the JavaScript bytes that crossed the wire (as encoded; target ≤ 200 KB). Side by side with the same
+ * pages served uncompressed (the browser asking for `Accept-Encoding: identity`), as they were served before.
+ * Also prints the service worker's precache: entries, raw bytes and brotli bytes of the files it lists.
+ * Starts its own stack on the bench database (ports: FURROWCAST_BENCH_PORT, FURROWCAST_BENCH_SMTP_PORT,
+ * FURROWCAST_BENCH_S3_PORT). Run: npx tsx bench/tablet.bench.ts
+ */
+import { existsSync, readFileSync, statSync } from 'node:fs'
+import { join } from 'node:path'
+import { chromium, type Browser } from 'playwright-core'
+import { startStack } from '../scripts/lib/stack.mjs'
+import { DATA, ROOT } from '../scripts/lib/system.mjs'
+import { mergeResults, printTable, round } from './lib/results-file'
+
+const LINK = { offline: false, latency: 150, downloadThroughput: 1.6e6 / 8, uploadThroughput: 750e3 / 8 }
+const FORM_TARGET_MS = 3000
+const JS_TARGET_BYTES = 200 * 1024
+const RUNS = 3
+
+interface Load { ms: number, jsBytes: number, allBytes: number, jsFiles: number }
+
+async function firstLoad(browser: Browser, url: string, credentials: { email: string, password: string }, compressed: boolean): Promise<Load> {
+  const context = await browser.newContext({
+    baseURL: url,
+    viewport: { width: 1180, height: 820 },
+    serviceWorkers: 'allow',
+    extraHTTPHeaders: { 'x-forwarded-for': `10.9.${Math.floor(Math.random() * 250)}.${1 + Math.floor(Math.random() * 250)}`, ...(compressed ? {} : { 'accept-encoding': 'identity' }) }
+  })
+  try {
+    // Signed in through the route (no page load), so the cache is still empty when /field opens.
+    const answer = await context.request.post('/api/auth/signin', { data: credentials })
+    if (!answer.ok()) throw new Error(`sign-in failed: ${answer.status()}`)
+    const page = await context.newPage()
+    const cdp = await context.newCDPSession(page)
+    await cdp.send('Network.enable')
+    await cdp.send('Network.setCacheDisabled', { cacheDisabled: true })
+    await cdp.send('Network.emulateNetworkConditions', LINK)
+    const types = new Map<string, string>()
+    let jsBytes = 0, allBytes = 0, jsFiles = 0, counting = true
+    cdp.on('Network.responseReceived', e => types.set(e.requestId, e.type))
+    cdp.on('Network.loadingFinished', (e) => {
+      if (!counting) return
+      allBytes += e.encodedDataLength
+      if (types.get(e.requestId) === 'Script') {
+        jsBytes += e.encodedDataLength
+        jsFiles++
+      }
+    })
+    const started = Date.now()
+    await page.goto('/field', { waitUntil: 'commit' })
+    await page.getByRole('link', { name: 'New visit' }).first().click({ timeout: 60_000 })
+    const farmCode = page.getByLabel('Farm code *')
+    await farmCode.waitFor({ state: 'visible', timeout: 60_000 })
+    await farmCode.fill('BENCH-1', { timeout: 60_000 })
+    const ms = Date.now() - started
+    counting = false
+    return { ms, jsBytes, allBytes, jsFiles }
+  }
+  finally {
+    await context.close()
+  }
+}
+
+/** The files the built service worker precaches, with their sizes as stored and as brotli (what crosses the wire). */
+function precache() {
+  const publicDir = join(ROOT, '.output', 'public')
+  const sw = readFileSync(join(publicDir, 'sw.js'), 'utf8')
+  const urls = [...sw.matchAll(/url:"([^"]+)"/g)].map(m => m[1]!)
+  let raw = 0, brotli = 0
+  for (const url of urls) {
+    const file = join(publicDir, url.replace(/^\//, ''))
+    if (!existsSync(file)) continue
+    raw += statSync(file).size
+    brotli += existsSync(`${file}.br`) ? statSync(`${file}.br`).size : statSync(file).size
+  }
+  return { entries: urls.length, raw, brotli }
+}
+
+async function main() {
+  const stack = await startStack({
+    database: 'furrowcast_bench',
+    appPort: Number(process.env.FURROWCAST_BENCH_PORT ?? 3200),
+    smtpPort: Number(process.env.FURROWCAST_BENCH_SMTP_PORT ?? 2527),
+    s3Port: Number(process.env.FURROWCAST_BENCH_S3_PORT ?? 4570),
+    objectDir: join(DATA, 'furrowcast_bench', 'objects'),
+    outbox: join(DATA, 'furrowcast_bench', 'outbox'),
+    seed: 'demo',
+    fresh: true,
+    secretFile: 'bench-session-secret',
+    extraEnv: { FURROWCAST_TRUST_PROXY: '1' }
+  })
+  const browser = await chromium.launch({
+    executablePath: '/usr/bin/chromium',
+    headless: true,
+    args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-quic', '--no-first-run']
+  })
+  try {
+    const { DEMO, demoUser } = await import('../tests/support/server')
+    const credentials = { email: demoUser('enumerator').email, password: DEMO.password }
+    const best = async (compressed: boolean) => {
+      const loads: Load[] = []
+      for (let i = 0; i < RUNS; i++) loads.push(await firstLoad(browser, stack.url, credentials, compressed))
+      return loads.sort((a, b) => a.ms - b.ms)[0]!
+    }
+    const ours = await best(true)
+    const peer = await best(false)
+    const kb = (b: number) => (b / 1024).toFixed(1)
+    printTable(['tablet first load of /field (1.6 Mbit/s, 150 ms)', 'usable form ms', 'JS KB on the wire', 'JS files', 'all KB on the wire', 'targets'], [
+      ['compressed (gzip/brotli, ours)', String(ours.ms), kb(ours.jsBytes), String(ours.jsFiles), kb(ours.allBytes),
+        `${ours.ms <= FORM_TARGET_MS ? 'met' : 'MISSED'} (≤ 3 s), ${ours.jsBytes <= JS_TARGET_BYTES ? 'met' : 'MISSED'} (≤ 200 KB)`],
+      ['uncompressed (peer)', String(peer.ms), kb(peer.jsBytes), String(peer.jsFiles), kb(peer.allBytes), '']
+    ])
+    const cache = precache()
+    console.log(`service worker precache: ${cache.entries} files, ${kb(cache.raw)} KB as stored, ${kb(cache.brotli)} KB as brotli`)
+    mergeResults([
+      { name: 'tablet /field time to usable visit form', n: 1, ours_ms: ours.ms, peer: 'same pages uncompressed', peer_ms: peer.ms, ratio: round(ours.ms / peer.ms, 3), peak_rss_mb: null },
+      { name: 'tablet /field JS KB on the wire (in ours_ms/peer_ms)', n: 1, ours_ms: round(ours.jsBytes / 1024), peer: 'same pages uncompressed', peer_ms: round(peer.jsBytes / 1024), ratio: round(ours.jsBytes / peer.jsBytes, 3), peak_rss_mb: null },
+      { name: 'service worker precache KB brotli (in ours_ms; peer_ms: as stored)', n: cache.entries, ours_ms: round(cache.brotli / 1024), peer: 'the same files as stored', peer_ms: round(cache.raw / 1024), ratio: round(cache.brotli / cache.raw, 3), peak_rss_mb: null }
+    ])
+  }
+  finally {
+    await browser.close()
+    await stack.stop()
+  }
+}
+
+main().catch((error) => {
+  console.error(error)
+  process.exit(1)
+})
