@@ -21,6 +21,9 @@ const roundName = `Forged round ${tag}`
 function attackPage(app: string, form: boolean) {
   if (form) {
     return `<!doctype html><html><body>
+<form id="f" method="POST" action="${app}/api/people/invitations">
+  <input name="email" value="${emails[0]}"><input name="role" value="admin"><input name="name" value="Forged Person">
+</form>
 <script>document.getElementById('f').submit()</script></body></html>`
   }
   const invite = (email: string) => JSON.stringify({ email, role: 'admin', name: 'Forged Person' })
@@ -69,11 +72,13 @@ describe('a page on another origin', () => {
     expect(results.cors).toMatch(/^error/)
     expect(results.signOutEverywhere).toMatch(/^error/)
     // The auto-submitting form lands on the app, which answers 403.
-    const refused = page.waitForResponse(r => r.url().endsWith('/api/people/invitations') && r.request().method() === 'POST' && r.request().resourceType() === 'document')
-    await page.goto(`${evilOrigin}/form`)
-    const answer = await refused
-    expect(answer.status()).toBe(403)
-    await page.waitForURL(url => url.origin === new URL(baseUrl()).origin)
+    const formAnswers: number[] = []
+    page.on('response', (r) => {
+      if (r.url().endsWith('/api/people/invitations') && r.request().resourceType() === 'document') formAnswers.push(r.status())
+    })
+    await page.goto(`${evilOrigin}/form`, { waitUntil: 'commit' })
+    await expect.poll(() => formAnswers, { timeout: 30_000 }).toEqual([403])
+    await page.waitForURL(url => url.origin === new URL(baseUrl()).origin, { waitUntil: 'commit' })
     await page.screenshot({ path: path.join(SCREENSHOTS, `cross-site-refused-${role}.png`) })
 
     // Nothing changed in MariaDB, and the session is still alive (no forged sign-out everywhere).
