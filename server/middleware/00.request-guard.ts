@@ -6,7 +6,7 @@
 //   signed-in person. A request with neither header comes from no browser (scripts, the tests, curl): it
 //   carries no one's cookie by accident, so it is judged by its session like any other.
 // - a body must be of a type its route takes (415): JSON routes take application/json only, which a plain
-//   HTML form cannot send.
+//   HTML form cannot send. A body that passes starts streaming in here, within its limit (request-body.ts).
 export default defineEventHandler((event) => {
   if (event.path.startsWith('/api/')) refuseWrongMethod(event)
   if (!BODY_METHODS.has(event.method)) return
@@ -19,6 +19,7 @@ export default defineEventHandler((event) => {
   if (!types.includes(type)) {
     throw createError({ statusCode: 415, message: `Send this request as ${types.join(' or ')}.` })
   }
+  startReadingBody(event)
 })
 
 function refuseWrongMethod(event: Parameters<Parameters<typeof defineEventHandler>[0]>[0]) {

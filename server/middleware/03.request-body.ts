@@ -1,12 +1,13 @@
 import { jsonShapeProblem } from '../utils/json-shape'
 
-// Every request body is read here, once, with its route's limit (server/utils/request-rules.ts), and handed to
-// h3's readBody / readRawBody / readValidatedBody through the event, so no route can read an unbounded body.
-// It runs after the deny-by-default check: a request that has no business here is refused unread.
+// Every request body is read once, with its route's limit (server/utils/request-rules.ts; the reading starts in
+// 00.request-guard.ts), and handed to h3's readBody / readRawBody / readValidatedBody through the event here,
+// after the deny-by-default check, so no route can read an unbounded body.
 export default defineEventHandler(async (event) => {
-  if (!BODY_METHODS.has(event.method) || !hasBody(event)) return
+  const reading = bodyRead(event)
+  if (!reading) return
   const rule = bodyRuleFor(event)
-  const body = await readBodyWithin(event, rule.maxBytes, rule.message)
+  const body = await reading
   // h3's readRawBody returns a Buffer kept here as it is (BodyInit's typing does not list Buffer).
   event._requestBody = body as unknown as BodyInit
   if (!rule.types.includes('application/json') || body.length === 0) return
