@@ -56,7 +56,9 @@ stage('unit, integration and browser tests (vitest)', 'npx', ['vitest', 'run'], 
   OUTBOX_DIR: outbox,
   S3_ENDPOINT: stack.env.S3_ENDPOINT,
   S3_BUCKET: stack.env.S3_BUCKET,
-  NUXT_SESSION_PASSWORD: stack.env.NUXT_SESSION_PASSWORD
+  NUXT_SESSION_PASSWORD: stack.env.NUXT_SESSION_PASSWORD,
+  // The body-limit test reads the server's memory from /proc/<pid>/status.
+  FURROWCAST_TEST_SERVER_PID: String(stack.server.pid)
 })
 
 await stack.stop()

@@ -2,7 +2,7 @@ import type { PersonRow } from '#shared/types/listing'
 import type { InvitationAnswer } from '#shared/types/team'
 import type { Role } from '#shared/utils/roles'
 
-/** What an admin does to people: invite, invite again, change a role, deactivate and reactivate. */
+/** What an admin does to people: invite, invite again, change a role, deactivate and reactivate, sign out everywhere. */
 export function usePeopleActions(refresh: () => Promise<unknown>) {
   const notice = ref('')
   const actionError = ref('')
@@ -44,5 +44,9 @@ export function usePeopleActions(refresh: () => Promise<unknown>) {
   const setRole = (row: PersonRow, role: Role) => update(row, { role }, `${row.name} is now ${ROLE_LABELS[role].toLowerCase()}.`)
   const setActive = (row: PersonRow, active: boolean) => update(row, { active }, `${row.name} is ${active ? 'active again' : 'deactivated'}.`)
 
-  return { notice, actionError, busyId, invite, reinvite, setRole, setActive }
+  const endSessions = (row: PersonRow) => run(row.id,
+    () => $fetch<{ ended: number }>(`/api/people/${row.id}/sessions`, { method: 'DELETE' }),
+    answer => `${row.name} is signed out everywhere (${answer.ended} session${answer.ended === 1 ? '' : 's'} ended).`).catch(() => undefined)
+
+  return { notice, actionError, busyId, invite, reinvite, setRole, setActive, endSessions }
 }

@@ -1,4 +1,4 @@
-// Deny by default: an /api route answers only to a signed-in user unless it is listed here.
+// Deny by default: an /api route answers only to a live session unless it is listed here.
 // Each protected route then checks the role itself through defineRoleHandler.
 const PUBLIC_API = new Set([
   'POST /api/auth/signin',
@@ -13,6 +13,6 @@ export default defineEventHandler(async (event) => {
   if (!event.path.startsWith('/api/')) return
   const path = event.path.split('?')[0]
   if (PUBLIC_API.has(`${event.method} ${path}`)) return
-  const session = await getUserSession(event)
-  if (!session.user) throw createError({ statusCode: 401, message: 'Sign in to continue.' })
+  // The same lookup requireRole uses (kept for the request), so a revoked or expired session stops here.
+  if (!await currentSession(event)) throw await sessionRefusal(event)
 })

@@ -1,43 +1,20 @@
 import type { EventHandlerRequest, H3Event } from 'h3'
 import type { Role } from '#shared/utils/roles'
 import { funderOrganisationOf } from '#shared/utils/funders'
-import { Organisation, User, settingsOf } from '../db/models'
+import { type Organisation, type User, settingsOf } from '../db/models'
 
 export type SignedInUser = User & { organisation: Organisation }
 
 /**
- * The one gate of every protected route. The role and the active flag are read from the database on
- * each request, never trusted from the cookie, so a deactivated user or a changed role takes effect at once.
+ * The one gate of every protected route. The session row, the user's role and the active flag are read
+ * from the database in one query on each request (see currentSession), never trusted from the cookie, so
+ * a revoked session, a deactivated user or a changed role takes effect at once.
  */
 export async function requireRole(event: H3Event, roles: readonly Role[]): Promise<SignedInUser> {
-  const session = await getUserSession(event)
-  if (!session.user) throw createError({ statusCode: 401, message: 'Sign in to continue.' })
-  const user = await User.findByPk(session.user.id, { include: [{ model: Organisation, as: 'organisation' }] }) as SignedInUser | null
-  if (!user || !user.active) {
-    await clearUserSession(event)
-    throw createError({ statusCode: 401, message: 'This account is no longer active. Ask your administrator.' })
-  }
-  // A sealed cookie cannot be revoked, so a password change raises the user's session version instead:
-  // every session signed in before it (cookies without a version count as version 0) is refused here.
-  if ((session.secure?.sessionVersion ?? 0) !== user.sessionVersion) {
-    await clearUserSession(event)
-    throw createError({ statusCode: 401, message: 'Your password was changed, so this session has ended. Sign in again.' })
-  }
-  if (user.role !== session.user.role) {
-    // Keep the cookie's copy (used only for navigation) in step with the database.
-    await setUserSession(event, { user: sessionUserOf(user), signedInAt: session.signedInAt ?? new Date().toISOString() })
-  }
-  if (!roles.includes(user.role)) throw createError({ statusCode: 403, message: 'Your role does not allow this.' })
-  return user
-}
-
-/** Starts (or renews) the caller's session for this user, at the user's current session version. */
-export async function startSession(event: H3Event, user: SignedInUser) {
-  await replaceUserSession(event, {
-    user: sessionUserOf(user),
-    signedInAt: new Date().toISOString(),
-    secure: { sessionVersion: user.sessionVersion }
-  })
+  const current = await currentSession(event)
+  if (!current) throw await sessionRefusal(event)
+  if (!roles.includes(current.user.role)) throw createError({ statusCode: 403, message: 'Your role does not allow this.' })
+  return current.user
 }
 
 export function sessionUserOf(user: SignedInUser) {

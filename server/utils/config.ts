@@ -9,9 +9,17 @@ const configSchema = z.object({
   PUBLIC_URL: z.string().url().default('http://127.0.0.1:3000'),
   FURROWCAST_SEED: z.enum(['demo', 'none']).default('none'),
   FURROWCAST_TRUST_PROXY: z.enum(['0', '1']).default('0'),
+  // Strict-Transport-Security max-age, sent only when the app is reached over https (0: never sent).
+  HSTS_SECONDS: z.coerce.number().int().min(0).default(365 * 24 * 3600),
   SIGNIN_WINDOW_MINUTES: z.coerce.number().int().min(1).default(15),
   SIGNIN_MAX_FAILURES_PER_EMAIL: z.coerce.number().int().min(1).default(10),
   SIGNIN_MAX_FAILURES_PER_IP: z.coerce.number().int().min(1).default(30),
+  // Session lifetimes in minutes: idle timeout and absolute lifetime for office roles (coordinator, admin,
+  // funder: a working day, a week), and longer for enumerators, whose tablets sync only now and then.
+  SESSION_IDLE_MINUTES: z.coerce.number().int().min(1).default(8 * 60),
+  SESSION_MAX_MINUTES: z.coerce.number().int().min(1).default(7 * 24 * 60),
+  FIELD_SESSION_IDLE_MINUTES: z.coerce.number().int().min(1).default(30 * 24 * 60),
+  FIELD_SESSION_MAX_MINUTES: z.coerce.number().int().min(1).default(60 * 24 * 60),
   // The folder where the local mail catcher keeps messages; the admins' outbox page reads it.
   OUTBOX_DIR: z.string().min(1).optional(),
   INVITATION_HOURS: z.coerce.number().int().min(1).max(24 * 30).default(72),

@@ -2,7 +2,7 @@ import { createHash, randomUUID } from 'node:crypto'
 import type { H3Event } from 'h3'
 import { QueryTypes } from 'sequelize'
 import {
-  IMPORT_BODY_MAX_BYTES, IMPORT_MAX_BYTES, IMPORT_PREVIEW_ROWS, IMPORT_REPORT_MAX,
+  IMPORT_MAX_BYTES, IMPORT_PREVIEW_ROWS, IMPORT_REPORT_MAX,
   type ImportOutcome, type ImportPreview, type ImportProblem, type ImportRequest, importRequestSchema
 } from '#shared/utils/schemas/csv-import'
 import { type Question, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
@@ -17,23 +17,14 @@ import { edgeValues } from './visit-flags'
 const TOO_LARGE = `The file is larger than the ${IMPORT_MAX_BYTES / 1024 / 1024} MB limit for an import. Split it into smaller files and import them one by one.`
 
 /**
- * Reads the JSON body of an import with a size limit: a declared length over the limit is refused before
- * a byte is read, and a body without one is refused as soon as it passes the limit. Bytes that are not
- * UTF-8 are refused too.
+ * Reads the JSON body of an import. Its size limit is enforced while it streams by the request-body
+ * middleware (the rule for the import routes in request-rules.ts); bytes that are not UTF-8 are refused.
  */
 export async function readImportRequest(event: H3Event): Promise<ImportRequest> {
-  const declared = Number(getHeader(event, 'content-length') ?? 0)
-  if (declared > IMPORT_BODY_MAX_BYTES) throw createError({ statusCode: 413, message: TOO_LARGE })
-  const chunks: Buffer[] = []
-  let size = 0
-  for await (const chunk of event.node.req) {
-    size += (chunk as Buffer).length
-    if (size > IMPORT_BODY_MAX_BYTES) throw createError({ statusCode: 413, message: TOO_LARGE })
-    chunks.push(chunk as Buffer)
-  }
+  const raw = await readRawBody(event, false)
   let text: string
   try {
-    text = new TextDecoder('utf-8', { fatal: true }).decode(Buffer.concat(chunks))
+    text = new TextDecoder('utf-8', { fatal: true }).decode(raw ?? new Uint8Array())
   }
   catch {
     throw createError({ statusCode: 400, message: 'The file is not in UTF-8. Save it again with the UTF-8 encoding and choose it again.' })

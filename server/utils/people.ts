@@ -32,6 +32,7 @@ export async function listPeople(organisationId: number, query: PeopleQuery): Pr
         })
       ])
     : [[], []]
+  const sessions = await activeSessionCounts(ids)
   const latest = <T extends { userId: number | null }>(list: T[], userId: number) => list.find(item => item.userId === userId)
   return {
     items: rows.map((user) => {
@@ -46,7 +47,8 @@ export async function listPeople(organisationId: number, query: PeopleQuery): Pr
         lastSignInAt: user.lastSignInAt?.toISOString() ?? null,
         hasPassword: user.passwordHash !== null,
         invitation: token ? { expiresAt: token.expiresAt.toISOString(), expired: token.expiresAt.getTime() <= Date.now() } : null,
-        mail: message ? mailStateOf(message) : null
+        mail: message ? mailStateOf(message) : null,
+        openSessions: sessions.get(user.id) ?? 0
       }
     }),
     total: count,
@@ -101,7 +103,20 @@ export async function updatePerson(event: H3Event, admin: SignedInUser, personId
     if (newActive !== person.active) {
       await audit(event, admin, { action: newActive ? 'user.reactivated' : 'user.deactivated', ...entity, details: { email: person.email } }, transaction)
     }
+    // Deactivation ends every session for good: reactivating the person later revives none of them.
+    if (!newActive) await revokeSessionsOf(person.id, 'deactivated', { transaction })
     await person.update({ role: newRole, active: newActive }, { transaction })
     return { id: person.id, role: person.role, active: person.active }
+  })
+}
+
+/** An admin ends every session of a person of their organisation (a lost tablet, a shared computer). */
+export async function endSessionsOf(event: H3Event, admin: SignedInUser, personId: number) {
+  const person = await User.findOne({ where: { id: personId, organisationId: admin.organisationId }, attributes: ['id', 'email'] })
+  if (!person) throw createError({ statusCode: 404, message: 'There is no such person in your organisation.' })
+  return database().transaction(async (transaction) => {
+    const ended = await revokeSessionsOf(person.id, 'ended_by_admin', { transaction })
+    await audit(event, admin, { action: 'user.sessions_ended', entityType: 'user', entityId: person.id, details: { email: person.email, ended } }, transaction)
+    return { ended }
   })
 }

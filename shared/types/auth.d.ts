@@ -12,13 +12,15 @@ declare module '#auth-utils' {
     affiliationName?: string | null
   }
 
+  // Filled by the server from the session row when the app reads the session (server/plugins/sessions.ts);
+  // the cookie itself holds none of it.
   interface UserSession {
-    signedInAt: string
+    signedInAt?: string
   }
 
-  // Server-only part of the sealed cookie: the user's session version at sign-in (see requireRole).
+  // The only thing in the sealed cookie: the random token of the session row (see server/utils/sessions.ts).
   interface SecureSessionData {
-    sessionVersion: number
+    token: string
   }
 }
 

@@ -20,6 +20,8 @@ export interface PersonRow {
   invitation: { expiresAt: string, expired: boolean } | null
   /** The latest message about this person (invitation, reset), with its delivery state. */
   mail: MailState | null
+  /** Sessions not yet ended (signed-in browsers and tablets). */
+  openSessions: number
 }
 
 export interface MailState {

@@ -29,7 +29,7 @@ export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/audit', label: 'Audit log', roles: ['admin'] },
   { to: '/settings', label: 'Settings', roles: ['admin'] },
   { to: '/outbox', label: 'Outbox', roles: ['admin'] },
-  { to: '/account', label: 'Password', roles: ROLES, place: 'user-menu' }
+  { to: '/account', label: 'Account', roles: ROLES, place: 'user-menu' }
 ]
 
 /** Pages that anyone may open without signing in: sign-in, and the pages behind the links that mail carries. */

@@ -1,7 +1,7 @@
 import path from 'node:path'
 import type { Browser } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
 import { DEMO, baseUrl, demoUser } from '../support/server'
 
 let browser: Browser
@@ -78,10 +78,12 @@ describe('signing in through the browser', () => {
     const context = await newTabletContext(browser)
     const page = await context.newPage()
     await page.goto('/signin?next=/people')
+    await waitForApp(page)
     await page.getByLabel('E-mail').fill(demoUser('admin').email)
     await page.getByLabel('Password').fill(DEMO.password)
     await page.getByRole('button', { name: 'Sign in' }).click()
-    await page.waitForURL(/\/people/)
+    // The sign-in page's own address holds "/people" (in ?next=): wait for the people page itself.
+    await page.waitForURL(url => url.pathname === '/people')
     await expect.poll(() => page.getByTestId('person-row').count()).toBeGreaterThanOrEqual(DEMO.users.length)
     // Other tests invite people at @team-test.example; the demo staff share the organisation's domain, the demo
     // funder has the funder organisation's.

@@ -9,6 +9,9 @@ import { type Client, DEMO, demoUser, freshClient } from '../support/server'
 const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path: string, roles: string[], ok?: number }> = [
   { method: 'GET', path: '/api/me', roles: ['admin', 'coordinator', 'enumerator', 'funder'] },
   { method: 'POST', path: '/api/me/password', roles: ['admin', 'coordinator', 'enumerator', 'funder'], ok: 400 },
+  { method: 'GET', path: '/api/me/sessions', roles: ['admin', 'coordinator', 'enumerator', 'funder'] },
+  { method: 'DELETE', path: '/api/me/sessions/999999', roles: ['admin', 'coordinator', 'enumerator', 'funder'], ok: 404 },
+  { method: 'DELETE', path: '/api/people/999999/sessions', roles: ['admin'], ok: 404 },
   { method: 'GET', path: '/api/people', roles: ['admin'] },
   { method: 'POST', path: '/api/people/invitations', roles: ['admin'], ok: 400 },
   { method: 'PATCH', path: '/api/people/1', roles: ['admin'], ok: 400 },

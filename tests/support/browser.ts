@@ -23,8 +23,31 @@ export async function launchBrowser(): Promise<Browser> {
   return browser
 }
 
+/** A Content-Security-Policy violation a page reported: the directive and what it blocked. */
+export interface CspViolation {
+  page: string
+  directive: string
+  blocked: string
+  sample: string
+}
+
+const violations: CspViolation[] = []
+
+/** Every violation reported since the browser was launched (see newTabletContext). */
+export function cspViolations(): readonly CspViolation[] {
+  return violations
+}
+
+/**
+ * Closes the browser, and fails the test file (its afterAll) if any page reported a CSP violation: every
+ * browser test doubles as a check that the policy and the app agree.
+ */
 export async function closeBrowser() {
   await browser?.close()
+  if (violations.length) {
+    const found = violations.splice(0)
+    throw new Error(`Content-Security-Policy violations:\n${found.map(v => `  ${v.page}: ${v.directive} blocked ${v.blocked} ${v.sample}`).join('\n')}`)
+  }
 }
 
 /**
@@ -33,11 +56,26 @@ export async function closeBrowser() {
  */
 export async function newTabletContext(b: Browser, { serviceWorkers = 'block' }: { serviceWorkers?: 'allow' | 'block' } = {}): Promise<BrowserContext> {
   const octet = () => 1 + Math.floor(Math.random() * 250)
-  return b.newContext({
+  const context = await b.newContext({
     baseURL: process.env.FURROWCAST_TEST_URL,
     serviceWorkers,
     viewport: { width: 1180, height: 820 },
     extraHTTPHeaders: { 'x-forwarded-for': `172.${octet()}.${octet()}.${octet()}` }
+  })
+  await watchCsp(context)
+  return context
+}
+
+/** Collects every securitypolicyviolation event of every page of the context into cspViolations(). */
+export async function watchCsp(context: BrowserContext) {
+  await context.exposeBinding('__furrowcastCspViolation', ({ page }, v: Omit<CspViolation, 'page'>) => {
+    violations.push({ page: page.url(), ...v })
+  })
+  await context.addInitScript(() => {
+    document.addEventListener('securitypolicyviolation', (e) => {
+      const report = (window as unknown as { __furrowcastCspViolation: (v: object) => void }).__furrowcastCspViolation
+      report({ directive: e.effectiveDirective, blocked: e.blockedURI, sample: e.sample })
+    })
   })
 }
 

@@ -49,4 +49,31 @@ describe('API route files', () => {
     // Only the public route files and nuxt-auth-utils' own session read are open.
     expect(listed.sort()).toEqual([...PUBLIC_ROUTES.map(f => f.replace(/\.(get|post)\.ts$/, '')), '_auth/session'].sort())
   })
+
+  // Bodies are read once, with a limit, by server/middleware/03.request-body.ts; a route that read the request
+  // stream itself would bypass it (and the JSON shape limits).
+  it.each(files)('%s reads its body only through h3\'s readers', (file) => {
+    const source = readFileSync(path.join(API, file), 'utf8')
+    expect(source).not.toMatch(/event\.node\.req\b|getRequestWebStream|toWebRequest|\.req\.on\(/)
+  })
+
+  it('no service reads the request stream except the bounded reader', () => {
+    const utils = path.resolve(API, '../utils')
+    const readers = readdirSync(utils).filter(name => /event\.node\.req\b|getRequestWebStream|toWebRequest/.test(readFileSync(path.join(utils, name), 'utf8')))
+    expect(readers).toEqual(['request-body.ts'])
+  })
+
+  it('every route with its own body limit exists', () => {
+    const rules = readFileSync(path.resolve(API, '../utils/request-rules.ts'), 'utf8')
+    const found = [...rules.matchAll(/method: '(\w+)',\s*path: \/(.+)\/,/g)]
+    expect(found.length).toBeGreaterThanOrEqual(3)
+    const routes = files.filter(f => f !== CATCH_ALL).map((f) => {
+      const [, route, method] = /^(.*?)(?:\/index)?\.(\w+)\.ts$/.exec(f)!
+      return { method: method!.toUpperCase(), path: `/api/${route!.replace(/\[[^\]]+\]/g, 'x1')}` }
+    })
+    for (const [, method, pattern] of found) {
+      const regex = new RegExp(pattern!.replace(/\\\//g, '/'))
+      expect(routes.some(r => r.method === method && regex.test(r.path)), `${method} ${pattern}`).toBe(true)
+    }
+  })
 })

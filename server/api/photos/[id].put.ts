@@ -9,12 +9,9 @@ export default defineRoleHandler(['enumerator'], async (event, user) => {
   const { visitId, sha256 } = await getValidatedQuery(event, validateWith(querySchema))
   const contentType = (getHeader(event, 'content-type') ?? '').split(';')[0]!.trim()
   if (!PHOTO_TYPES[contentType]) throw createError({ statusCode: 415, message: 'Send a JPEG, PNG or WebP photo.' })
-  const limit = serverConfig().PHOTO_MAX_BYTES
-  const tooLarge = () => createError({ statusCode: 413, message: `The photo is larger than ${Math.round(limit / 1024)} KB; resize it first.` })
-  if (Number(getHeader(event, 'content-length') ?? 0) > limit) throw tooLarge()
+  // Read within PHOTO_MAX_BYTES by the request-body middleware (server/utils/request-rules.ts).
   const body = await readRawBody(event, false)
   if (!body?.length) throw createError({ statusCode: 400, message: 'The photo is empty.' })
-  if (body.length > limit) throw tooLarge()
   // The bytes decide what the file is: anything but a JPEG, PNG or WebP is refused, and so is a type that lies.
   const actual = photoTypeOf(body)
   if (!actual) throw createError({ statusCode: 415, message: 'This file is not a JPEG, PNG or WebP photo.' })

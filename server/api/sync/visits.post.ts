@@ -1,9 +1,6 @@
 // Device → server: a batch of visits, upserted by their device-made ids in one transaction.
 export default defineRoleHandler(['enumerator'], async (event, user) => {
-  // 500 visits are well under 4 MB; anything larger is refused before it is read.
-  if (Number(getHeader(event, 'content-length') ?? 0) > SYNC_BODY_MAX_BYTES) {
-    throw createError({ statusCode: 413, message: `Send at most ${SYNC_BATCH_MAX} visits (4 MB) per batch.` })
-  }
+  // 500 visits are well under 4 MB; the body's limit is its rule in server/utils/request-rules.ts.
   const body = await readValidatedBody(event, validateWith(syncBatchSchema))
   const answer = await ingestVisits(user, body.visits)
   // Nothing in the batch could be stored: a 4xx, with the reasons per record.

@@ -4,6 +4,7 @@ import * as m0003 from './0003-field'
 import * as m0004 from './0004-model-runs'
 import * as m0005 from './0005-publications'
 import * as m0006 from './0006-imports'
+import * as m0010 from './0010-sessions'
 import * as m0020 from './0020-utf8mb4-everywhere'
 import * as m0040 from './0040-data-version'
 import * as m0050 from './0050-round-visit-target'
@@ -17,6 +18,7 @@ export const MIGRATIONS = [
   { name: '0004-model-runs', ...m0004 },
   { name: '0005-publications', ...m0005 },
   { name: '0006-imports', ...m0006 },
+  { name: '0010-sessions', ...m0010 },
   { name: '0020-utf8mb4-everywhere', ...m0020 },
   { name: '0040-data-version', ...m0040 },
   { name: '0050-round-visit-target', ...m0050 }

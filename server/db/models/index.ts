@@ -11,6 +11,7 @@ import { QuestionnaireVersion } from './questionnaire-version'
 import { RateEvent } from './rate-event'
 import { ROUND_STATUSES, Round, type RoundStatus } from './round'
 import { RoundVillage } from './round-village'
+import { SessionRecord } from './session-record'
 import { SignInAttempt } from './sign-in-attempt'
 import { User } from './user'
 import { TOKEN_PURPOSES, UserToken, type TokenPurpose } from './user-token'
@@ -19,7 +20,7 @@ import { REVIEW_STATES, VISIT_SOURCES, Visit, type ReviewState, type VisitFlags,
 
 export { AuditEntry, DEFAULT_ORGANISATION_SETTINGS, MAIL_STATUSES, MailMessage, Organisation, RateEvent, SignInAttempt, TOKEN_PURPOSES, User, UserToken, settingsOf }
 export { Assignment, Photo, QuestionnaireVersion, REVIEW_STATES, ROUND_STATUSES, Round, RoundVillage, Village, Visit }
-export { IMPORT_MODES, ImportBatch, ModelRun, Publication, VISIT_SOURCES }
+export { IMPORT_MODES, ImportBatch, ModelRun, Publication, SessionRecord, VISIT_SOURCES }
 export type { FunderOrganisation, ImportMode, VisitSource, MailStatus, OrganisationSettings, ReviewState, RoundStatus, TokenPurpose, VisitFlags }
 
 export function initModels(sequelize: Sequelize): void {
@@ -34,6 +35,8 @@ export function initModels(sequelize: Sequelize): void {
   User.belongsTo(Organisation, { foreignKey: 'organisationId', as: 'organisation' })
   User.hasMany(UserToken, { foreignKey: 'userId', as: 'tokens' })
   UserToken.belongsTo(User, { foreignKey: 'userId', as: 'user' })
+  SessionRecord.initModel(sequelize)
+  SessionRecord.belongsTo(User, { foreignKey: 'userId', as: 'user' })
 
   Village.initModel(sequelize)
   Round.initModel(sequelize)

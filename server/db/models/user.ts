@@ -12,8 +12,6 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare passwordHash: string | null
   declare active: CreationOptional<boolean>
   declare lastSignInAt: Date | null
-  /** Raised whenever the password changes; a session signed in under an older value is refused. */
-  declare sessionVersion: CreationOptional<number>
   declare passwordChangedAt: CreationOptional<Date | null>
   /** When the latest invitation was sent; null for people created otherwise (the demo seed). */
   declare invitedAt: CreationOptional<Date | null>
@@ -30,7 +28,6 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
       passwordHash: { type: DataTypes.STRING(255), allowNull: true },
       active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
       lastSignInAt: { type: DataTypes.DATE, allowNull: true },
-      sessionVersion: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
       passwordChangedAt: { type: DataTypes.DATE, allowNull: true },
       invitedAt: { type: DataTypes.DATE, allowNull: true },
       createdAt: DataTypes.DATE,

@@ -19,12 +19,17 @@ export const assignmentsSchema = z.object({
   assignments: z.array(z.object({ userId: z.number().int().positive(), villageId: z.number().int().positive() })).max(20_000)
 })
 
-const position = z.tuple([z.number().min(-180).max(180), z.number().min(-90).max(90)]).rest(z.number())
-const ring = z.array(position).min(4, 'A ring needs at least 4 positions').refine(
+/** A boundary is drawn on a map of villages, not surveyed to the metre: more vertices than this are refused. */
+export const BOUNDARY_MAX_VERTICES = 5000
+const tooManyVertices = `A boundary may have at most ${BOUNDARY_MAX_VERTICES} vertices; simplify it first`
+// Longitude, latitude and at most an altitude: extra numbers in a position are refused, not stored.
+const position = z.tuple([z.number().min(-180).max(180), z.number().min(-90).max(90), z.number().optional()])
+const ring = z.array(position).min(4, 'A ring needs at least 4 positions').max(BOUNDARY_MAX_VERTICES, tooManyVertices).refine(
   r => r[0]![0] === r.at(-1)![0] && r[0]![1] === r.at(-1)![1], 'A ring must end where it starts')
 const polygon = z.object({ type: z.literal('Polygon'), coordinates: z.array(ring).min(1) })
 const multiPolygon = z.object({ type: z.literal('MultiPolygon'), coordinates: z.array(z.array(ring).min(1)).min(1) })
 const geometry = z.discriminatedUnion('type', [polygon, multiPolygon], { error: 'The boundary must be a GeoJSON Polygon or MultiPolygon' })
+  .refine(g => (g.type === 'Polygon' ? g.coordinates.flat() : g.coordinates.flat(2)).length <= BOUNDARY_MAX_VERTICES, tooManyVertices)
 
 /** A village boundary: a GeoJSON geometry, Feature or one-feature FeatureCollection, reduced to its geometry. */
 // Built under a local name: a top-level `export const x = z.fn(…, [` confuses the auto-import scanner.
