@@ -4,12 +4,15 @@ export default defineRoleHandler(['enumerator'], async (event, user) => {
   if (Number(getHeader(event, 'content-length') ?? 0) > SYNC_BODY_MAX_BYTES) {
     throw createError({ statusCode: 413, message: `Send at most ${SYNC_BATCH_MAX} visits (4 MB) per batch.` })
   }
-  const body = await readValidatedBody(event, validateWith(syncBatchSchema))
-  const answer = await ingestVisits(user, body.visits)
-  // Nothing in the batch could be stored: a 4xx, with the reasons per record.
-  if (answer.counts.rejected === answer.results.length) {
-    setResponseStatus(event, 422)
-    return { message: 'No visit in this batch could be stored; see the reasons per record.', ...answer }
-  }
-  return answer
+  // At most a few batches per person at once (429 beyond), so one device cannot take every connection.
+  return withSyncSlot(event, user.id, async () => {
+    const body = await readValidatedBody(event, validateWith(syncBatchSchema))
+    const answer = await withIngestSlot(() => ingestVisits(user, body.visits))
+    // Nothing in the batch could be stored: a 4xx, with the reasons per record.
+    if (answer.counts.rejected === answer.results.length) {
+      setResponseStatus(event, 422)
+      return { message: 'No visit in this batch could be stored; see the reasons per record.', ...answer }
+    }
+    return answer
+  })
 })
