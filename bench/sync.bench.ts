@@ -12,7 +12,9 @@
  *   FURROWCAST_BENCH_SYNC_DEVICES (50,200).
  */
 import { readFileSync } from 'node:fs'
+import { loadavg } from 'node:os'
 import { join } from 'node:path'
+import { runningMariadbPid } from '../scripts/lib/mariadb.mjs'
 import { startStack } from '../scripts/lib/stack.mjs'
 import { DATA } from '../scripts/lib/system.mjs'
 import { type BenchEntry, mergeResults, printTable, round } from './lib/results-file'
@@ -22,11 +24,18 @@ const SECONDS = Number(process.env.FURROWCAST_BENCH_SYNC_SECONDS ?? 60)
 const PEER_SECONDS = Number(process.env.FURROWCAST_BENCH_SYNC_PEER_SECONDS ?? 20)
 const DEVICES = (process.env.FURROWCAST_BENCH_SYNC_DEVICES ?? '50,200').split(',').map(Number)
 
-interface Run { devices: number, batch: number, seconds: number, stored: number, latencies: number[], byStatus: Map<number, number>, networkErrors: number }
+interface Run { devices: number, batch: number, seconds: number, stored: number, latencies: number[], byStatus: Map<number, number>, networkErrors: number, cpu: { app: number, database: number, client: number } }
 
 function peakRssMb(pid: number): number {
   const kb = Number(/VmHWM:\s+(\d+)/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'))?.[1] ?? 0)
   return kb / 1024
+}
+
+/** CPU seconds (user + system) a process has used so far, from /proc. */
+function cpuSeconds(pid: number | null): number {
+  if (!pid) return NaN
+  const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]!.split(' ')
+  return (Number(fields[11]) + Number(fields[12])) / 100
 }
 
 const percentile = (sorted: number[], p: number) => sorted.length ? sorted[Math.min(sorted.length - 1, Math.floor(p * sorted.length))]! : NaN
@@ -83,7 +92,8 @@ async function main() {
     }
 
     async function run(devices: number, batch: number, seconds: number): Promise<Run> {
-      const result: Run = { devices, batch, seconds, stored: 0, latencies: [], byStatus: new Map(), networkErrors: 0 }
+      const result: Run = { devices, batch, seconds, stored: 0, latencies: [], byStatus: new Map(), networkErrors: 0, cpu: { app: 0, database: 0, client: 0 } }
+      const cpuBefore = { app: cpuSeconds(stack.server.pid!), database: cpuSeconds(runningMariadbPid()), client: process.cpuUsage() }
       const until = Date.now() + seconds * 1000
       await Promise.all(tablets.slice(0, devices).map(async (tablet) => {
         let visits = Array.from({ length: batch }, () => makeVisit(testRound))
@@ -110,6 +120,8 @@ async function main() {
         }
       }))
       result.latencies.sort((a, b) => a - b)
+      const client = process.cpuUsage(cpuBefore.client)
+      result.cpu = { app: cpuSeconds(stack.server.pid!) - cpuBefore.app, database: cpuSeconds(runningMariadbPid()) - cpuBefore.database, client: (client.user + client.system) / 1e6 }
       return result
     }
 
@@ -127,14 +139,21 @@ async function main() {
         requests: r.latencies.length,
         s5xx: count(s => s >= 500) + r.networkErrors,
         s503: count(s => s === 503),
-        s429: count(s => s === 429)
+        s429: count(s => s === 429),
+        // CPU seconds the app server and MariaDB spent per 1,000 visits stored: what the work costs whatever else
+        // the machine is doing, and hence the ceiling on 2 otherwise idle cores (2 / cost × 1,000 visits/s).
+        appCpuPer1000: r.cpu.app / r.stored * 1000,
+        dbCpuPer1000: r.cpu.database / r.stored * 1000,
+        clientCpuPer1000: r.cpu.client / r.stored * 1000
       }
     }
     for (const devices of DEVICES) {
       const ours = describe(await run(devices, BATCH, SECONDS))
       const peer = describe(await run(devices, 1, PEER_SECONDS))
       for (const [label, d] of [[`${devices} devices, batches of ${BATCH}`, ours], [`${devices} devices, one request per visit`, peer]] as const) {
-        rows.push([label, String(Math.round(d.visitsPerS)), d.p50.toFixed(0), d.p95.toFixed(0), d.p99.toFixed(0), String(d.requests), String(d.s5xx), String(d.s503), String(d.s429)])
+        const ceiling = 2 / ((d.appCpuPer1000 + d.dbCpuPer1000) / 1000)
+        rows.push([label, String(Math.round(d.visitsPerS)), d.p50.toFixed(0), d.p95.toFixed(0), d.p99.toFixed(0), String(d.requests), String(d.s5xx), String(d.s503), String(d.s429),
+          `${d.appCpuPer1000.toFixed(2)} + ${d.dbCpuPer1000.toFixed(2)}`, String(Math.round(ceiling))])
       }
       entries.push({
         name: `sync ingest, ms per 1,000 visits (batches of ${BATCH}, concurrent devices)`,
@@ -154,6 +173,10 @@ async function main() {
           answers_5xx: ours.s5xx,
           answers_503: ours.s503,
           answers_429: ours.s429,
+          app_cpu_s_per_1000: round(ours.appCpuPer1000, 3),
+          db_cpu_s_per_1000: round(ours.dbCpuPer1000, 3),
+          ceiling_visits_per_s: Math.round(2000 / (ours.appCpuPer1000 + ours.dbCpuPer1000)),
+          load_average: round(loadavg()[0]!, 1),
           peer_seconds: PEER_SECONDS,
           peer_visits_per_s: Math.round(peer.visitsPerS),
           peer_p50_ms: round(peer.p50),
@@ -164,7 +187,8 @@ async function main() {
       })
     }
     console.log(`sync ingest through HTTP into MariaDB, each tablet a different enumerator, ${SECONDS} s per batched run, ${PEER_SECONDS} s per one-by-one run:`)
-    printTable(['run', 'visits/s', 'p50 ms', 'p95 ms', 'p99 ms', 'requests', '5xx', '503', '429'], rows)
+    printTable(['run', 'visits/s', 'p50 ms', 'p95 ms', 'p99 ms', 'requests', '5xx', '503', '429', 'CPU s/1,000 (app + db)', 'ceiling/s'], rows)
+    console.log(`ceiling: visits/s if the app server and MariaDB had both cores to themselves (load average now ${loadavg()[0]!.toFixed(1)})`)
     console.log('targets: 0 answers 5xx (503 included); p95 under 1,000 ms at 50 devices; at least 3,000 visits/s')
     mergeResults(entries)
   }
