@@ -15,9 +15,10 @@ const configSchema = z.object({
   DATABASE_WSREP_SYNC_WAIT: z.coerce.number().int().min(0).max(15).optional(),
   // Sync requests one person may have in flight on one app server; more answer 429 with Retry-After.
   SYNC_MAX_IN_FLIGHT_PER_USER: z.coerce.number().int().min(1).default(2),
-  // Batches written at once per app server (the rest queue without holding a connection), and the longest wait.
+  // Batches written at once per app server (the rest queue without holding a connection), and the longest wait:
+  // a crowd of tablets on a healthy server waits its turn rather than being refused (a dead database fails at once).
   SYNC_MAX_CONCURRENT_BATCHES: z.coerce.number().int().min(1).default(4),
-  SYNC_QUEUE_WAIT_MS: z.coerce.number().int().min(100).default(20_000),
+  SYNC_QUEUE_WAIT_MS: z.coerce.number().int().min(100).default(60_000),
   SMTP_URL: z.string().default('smtp://127.0.0.1:2525'),
   MAIL_FROM: z.string().default('Furrowcast <no-reply@furrowcast.local>'),
   PUBLIC_URL: z.string().url().default('http://127.0.0.1:3000'),

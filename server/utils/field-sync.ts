@@ -218,9 +218,9 @@ const INSERT_COLUMNS = ['id', 'organisation_id', 'round_id', 'village_id', 'enum
   'review_state', 'review_reason', 'flags', 'device_hash', 'version', 'created_at', 'updated_at'] as const
 
 /**
- * One plain multi-row INSERT. Written by hand rather than through bulkCreate because building, validating and
- * serialising a model instance per visit cost more app-server CPU than everything else in the sync route
- * (measured with the sync bench); the rows were validated by the zod schema already.
+ * One plain multi-row INSERT. Written by hand rather than through bulkCreate, which builds, validates and
+ * serialises a model instance per visit: app-server CPU is what limits sync throughput (see the CPU columns of
+ * the sync bench), and the rows were validated by the zod schema already.
  */
 async function insertVisits(rows: Array<ReturnType<typeof columnsOf>>, transaction: Transaction) {
   const now = new Date()

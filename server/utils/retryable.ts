@@ -39,8 +39,10 @@ export function retryableReason(error: unknown): string | null {
     seen.add(current)
     const e = current as DriverError
     if (e.errno !== undefined && RETRYABLE_ERRNO.has(e.errno)) return e.errno === 1213 || e.errno === 1205 ? 'busy' : 'unavailable'
-    // SQLSTATE class 08: connection exceptions; a fatal driver error means the connection itself is gone.
-    if (e.sqlState?.startsWith('08') || e.fatal === true) return 'unavailable'
+    // SQLSTATE class 08: connection exceptions; a fatal driver error means the connection itself is gone. Only the
+    // driver's own errors count: Nuxt marks page errors `fatal` too (a 403 page must stay a 403).
+    const driverError = e.name === 'SqlError' || e.sqlState !== undefined || e.errno !== undefined
+    if (e.sqlState?.startsWith('08') || (driverError && e.fatal === true)) return 'unavailable'
     if (e.code === 'ECONNREFUSED' || e.code === 'ECONNRESET' || e.code === 'ETIMEDOUT') return 'unavailable'
     if (e.name && RETRYABLE_NAMES.has(e.name)) return 'unavailable'
     queue.push(e.cause, e.original, e.parent)

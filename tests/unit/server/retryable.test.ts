@@ -28,5 +28,7 @@ describe('retryable database errors', () => {
     expect(retryableReason(sequelizeError('SequelizeDatabaseError', { errno: 1064, sqlState: '42000' }))).toBeNull()
     expect(retryableReason(sequelizeError('SequelizeUniqueConstraintError', { errno: 1062, sqlState: '23000' }))).toBeNull()
     expect(retryableReason(null)).toBeNull()
+    // A page refused to a role: Nuxt's error is `fatal`, but it is no database trouble.
+    expect(retryableReason({ statusCode: 403, fatal: true, message: 'Your role does not open this page.' })).toBeNull()
   })
 })
