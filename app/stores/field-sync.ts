@@ -1,5 +1,5 @@
 import { defineStore } from 'pinia'
-import { type SyncProgress, type SyncSummary, OfflineError, SessionExpiredError, syncOnce } from '~/utils/sync-engine'
+import { type SyncProgress, type SyncSummary, OfflineError, ServerBusyError, SessionExpiredError, syncOnce } from '~/utils/sync-engine'
 import { fieldDb } from '~/utils/field-db'
 
 const PERIOD_MS = 60_000
@@ -8,6 +8,7 @@ const MAX_BACKOFF_MS = 5 * 60_000
 /**
  * The tablet's sync status and schedule: on app start, when the device comes back online, every minute while
  * online, and on the button. After a failure it waits 5 s, 10 s, 20 s … up to 5 minutes before trying again.
+ * A busy server (503/429) is not an error: the tablet says so and waits at least the server's Retry-After.
  */
 export const useFieldSyncStore = defineStore('field-sync', () => {
   const running = ref(false)
@@ -15,6 +16,7 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
   const lastSyncAt = ref<string | null>(null)
   const lastSummary = ref<SyncSummary | null>(null)
   const error = ref<string | null>(null)
+  const busy = ref(false)
   const needsSignIn = ref(false)
   const online = ref(true)
   let userId: number | null = null
@@ -34,6 +36,7 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
     }
     running.value = true
     error.value = null
+    busy.value = false
     try {
       const db = fieldDb(userId)
       lastSummary.value = await syncOnce(db, (p) => {
@@ -50,6 +53,14 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
         // The queue stays on the device untouched; nothing more is tried until the enumerator signs in again.
         needsSignIn.value = true
         error.value = e.message
+      }
+      else if (e instanceof ServerBusyError) {
+        // Waits the longer of the server's Retry-After and the backoff, with jitter so tablets spread out.
+        busy.value = true
+        online.value = true
+        failures++
+        const backoff = Math.min(MAX_BACKOFF_MS, 5_000 * 2 ** (failures - 1))
+        schedule(Math.max(e.retryAfterMs, backoff) * (1 + Math.random() * 0.3))
       }
       else {
         online.value = !(e instanceof OfflineError)
@@ -86,5 +97,5 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
     userId = null
   }
 
-  return { running, progress, lastSyncAt, lastSummary, error, needsSignIn, online, syncNow, start, stop }
+  return { running, progress, lastSyncAt, lastSummary, error, busy, needsSignIn, online, syncNow, start, stop }
 })

@@ -19,6 +19,28 @@ export class OfflineError extends Error {
   }
 }
 
+/**
+ * The server answered 503 (database restarting, busy) or 429 (too many requests from this account): nothing is
+ * wrong with the visits, the pass stops and tries again after `retryAfterMs` (the server's Retry-After).
+ */
+export class ServerBusyError extends Error {
+  constructor(readonly status: number, readonly retryAfterMs: number) {
+    super('Server busy, will retry.')
+    this.name = 'ServerBusyError'
+  }
+}
+
+/** Retry-After as seconds or an HTTP date; 5 s when absent or unreadable. */
+export function retryAfterMsOf(header: string | null, now = Date.now()): number {
+  if (header) {
+    const seconds = Number(header)
+    if (Number.isFinite(seconds) && seconds >= 0) return seconds * 1000
+    const at = Date.parse(header)
+    if (Number.isFinite(at)) return Math.max(0, at - now)
+  }
+  return 5_000
+}
+
 export interface SyncProgress { phase: 'setup' | 'visits' | 'photos' | 'states', done: number, total: number }
 export interface SyncSummary { sent: number, stored: number, conflicts: number, rejected: number, photos: number }
 
@@ -33,6 +55,7 @@ async function call(url: string, init?: RequestInit): Promise<Response> {
     throw new OfflineError()
   }
   if (response.status === 401) throw new SessionExpiredError()
+  if (response.status === 503 || response.status === 429) throw new ServerBusyError(response.status, retryAfterMsOf(response.headers.get('retry-after')))
   return response
 }
 

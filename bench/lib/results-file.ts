@@ -12,6 +12,8 @@ export interface BenchEntry {
   peer_ms: number | null
   ratio: number | null
   peak_rss_mb: number | null
+  /** Figures that do not fit the ours/peer pair (latency percentiles, error counts). */
+  details?: Record<string, number | string>
 }
 
 const RESULTS = join(dirname(fileURLToPath(import.meta.url)), '..', 'results.json')

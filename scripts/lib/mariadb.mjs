@@ -1,6 +1,6 @@
 // A private MariaDB server for this checkout: its own data folder under .data/, loopback only,
 // its own port and socket, never the system's 3306 instance.
-import { spawnSync } from 'node:child_process'
+import { spawn, spawnSync } from 'node:child_process'
 import { existsSync, mkdirSync, readFileSync } from 'node:fs'
 import path from 'node:path'
 import { DATA, canConnect, ensureDebianPackage, fail, findExecutable, isRoot, say, startChild, waitFor } from './system.mjs'
@@ -16,16 +16,71 @@ function mariadbd() {
   return findExecutable('mariadbd') ?? findExecutable('mysqld')
 }
 
-function ownServerAlive() {
-  if (!existsSync(PIDFILE)) return false
-  const pid = Number(readFileSync(PIDFILE, 'utf8').trim())
+function alive(pid) {
   try {
     process.kill(pid, 0)
-    return true
   }
   catch {
     return false
   }
+  // A killed server whose parent has gone may linger as a zombie until reaped: it is not running.
+  try {
+    return readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]?.[0] !== 'Z'
+  }
+  catch {
+    return true
+  }
+}
+
+/** The pid of this checkout's running mariadbd (from its pid file), or null. Fault tests signal it. */
+export function runningMariadbPid() {
+  if (!existsSync(PIDFILE)) return null
+  const pid = Number(readFileSync(PIDFILE, 'utf8').trim())
+  return pid > 0 && alive(pid) ? pid : null
+}
+
+function ownServerAlive() {
+  return runningMariadbPid() !== null
+}
+
+function serverArgs(port) {
+  return [
+    '--no-defaults',
+    `--datadir=${DATADIR}`,
+    `--socket=${SOCKET}`,
+    `--pid-file=${PIDFILE}`,
+    `--port=${port}`,
+    '--bind-address=127.0.0.1',
+    `--log-error=${path.join(BASE, 'error.log')}`,
+    '--innodb-buffer-pool-size=256M',
+    '--max-connections=300',
+    '--character-set-server=utf8mb4',
+    '--collation-server=utf8mb4_unicode_ci',
+    ...(isRoot() ? ['--user=root'] : [])
+  ]
+}
+
+/**
+ * Starts this checkout's mariadbd again with the same arguments, detached (it outlives the caller), after a
+ * fault test killed it. Resolves once it accepts connections (after InnoDB's crash recovery).
+ * The stack that started the first server stops this one at the end (see `stop` below).
+ */
+export async function restartMariadb(port, timeoutMs = 120_000) {
+  if (runningMariadbPid() !== null) throw new Error('mariadbd is still running')
+  const child = spawn(mariadbd(), serverArgs(port), { detached: true, stdio: 'ignore' })
+  child.unref()
+  await waitFor(async () => runningMariadbPid() !== null && await canConnect(port), 'MariaDB (restarted)', timeoutMs)
+  return runningMariadbPid()
+}
+
+/** SIGTERM to the server in the pid file (whoever started it), then wait until it has flushed and exited. */
+async function stopByPidFile(timeoutMs = 120_000) {
+  const pid = runningMariadbPid()
+  if (pid === null) return
+  process.kill(pid, 'SIGTERM')
+  const started = Date.now()
+  while (alive(pid) && Date.now() - started < timeoutMs) await new Promise(resolve => setTimeout(resolve, 100))
+  if (alive(pid)) process.kill(pid, 'SIGKILL')
 }
 
 function sql(statements) {
@@ -50,28 +105,14 @@ export async function startMariadb(port) {
     fail(`port ${port} on 127.0.0.1 is already taken by another program, so the database cannot start. Stop it or set FURROWCAST_DB_PORT.`)
   }
 
-  const userArgs = isRoot() ? ['--user=root'] : []
   if (!existsSync(path.join(DATADIR, 'mysql'))) {
     say('initialising the private MariaDB data folder (.data/mariadb)')
     const installer = findExecutable('mariadb-install-db') ?? findExecutable('mysql_install_db')
-    const result = spawnSync(installer, ['--no-defaults', `--datadir=${DATADIR}`, '--skip-test-db', '--auth-root-authentication-method=socket', ...userArgs], { encoding: 'utf8' })
+    const result = spawnSync(installer, ['--no-defaults', `--datadir=${DATADIR}`, '--skip-test-db', '--auth-root-authentication-method=socket', ...(isRoot() ? ['--user=root'] : [])], { encoding: 'utf8' })
     if (result.status !== 0) fail(`mariadb-install-db failed: ${result.stderr.trim().split('\n').pop()}`)
   }
 
-  const child = startChild('mariadb', mariadbd(), [
-    '--no-defaults',
-    `--datadir=${DATADIR}`,
-    `--socket=${SOCKET}`,
-    `--pid-file=${PIDFILE}`,
-    `--port=${port}`,
-    '--bind-address=127.0.0.1',
-    `--log-error=${path.join(BASE, 'error.log')}`,
-    '--innodb-buffer-pool-size=256M',
-    '--max-connections=300',
-    '--character-set-server=utf8mb4',
-    '--collation-server=utf8mb4_unicode_ci',
-    ...userArgs
-  ])
+  const child = startChild('mariadb', mariadbd(), serverArgs(port))
   try {
     await waitFor(async () => child.exitCode === null && existsSync(SOCKET) && await canConnect(port), 'MariaDB', 60_000)
   }
@@ -84,7 +125,8 @@ export async function startMariadb(port) {
   return {
     port,
     // SIGTERM makes mariadbd flush and close InnoDB cleanly; wait for it so the data folder stays consistent.
-    stop: () => child.stopGracefully(120_000)
+    // If a fault test killed our child and started another server (restartMariadb), stop that one instead.
+    stop: () => child.exitCode === null && child.signalCode === null ? child.stopGracefully(120_000) : stopByPidFile()
   }
 }
 

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto'
-import { Op, QueryTypes, type Transaction } from 'sequelize'
+import { Op, QueryTypes, Transaction } from 'sequelize'
 import { type QuestionnaireVersionDto, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
 import { type ServerVisit, type SyncAnswer, type SyncResult, type SyncStatus, adoptedOf, visitEnvelopeSchema, visitSchemaFor, type VisitInput } from '#shared/utils/schemas/visit'
 import { fieldErrorsOf } from '#shared/utils/zod-errors'
@@ -110,53 +110,85 @@ async function checkRecords(actor: Actor, records: unknown[]) {
 }
 
 /**
- * Upserts a batch of device visits by their UUIDs in one transaction and answers per record.
- * An identical resend is 'duplicate'; an edit made from an out-of-date copy is 'conflict' (the server wins).
+ * Runs `work` (one whole transaction) again after a deadlock, a lock wait timeout, a Galera certification
+ * conflict or a concurrent insert of the same new id, waiting a jittered, growing pause between attempts so
+ * that the colliding batches do not meet again. What still fails is thrown and answered 503 (see retryable.ts).
  */
-export async function ingestVisits(actor: Actor, records: unknown[]): Promise<SyncAnswer> {
-  const { checked, ctx } = await checkRecords(actor, records)
-  const settings = { farRadiusKm: serverConfig().FIELD_FAR_RADIUS_KM, minInterviewSeconds: serverConfig().FIELD_MIN_INTERVIEW_SECONDS }
+async function withConflictRetry<T>(work: () => Promise<T>, attempts = 5): Promise<T> {
   for (let attempt = 1; ; attempt++) {
     try {
-      const results = await database().transaction(t => writeBatch(actor, checked, ctx, settings, t))
-      const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0 }
-      for (const r of results) counts[r.status]++
-      return { results, counts }
+      return await work()
     }
     catch (error) {
       // Two devices (or two tabs) sending the same new id at once: the loser retries and sees it as existing.
-      const name = (error as { name?: string }).name
-      const deadlock = /Deadlock/i.test(String((error as Error).message))
-      if (attempt >= 3 || (name !== 'SequelizeUniqueConstraintError' && !deadlock)) throw error
+      const sameNewId = (error as { name?: string }).name === 'SequelizeUniqueConstraintError'
+      if (attempt >= attempts || !(sameNewId || isLockConflict(error))) {
+        if (sameNewId) throw createError({ statusCode: 503, message: BUSY_MESSAGE, cause: error })
+        throw error
+      }
+      await new Promise(resolve => setTimeout(resolve, Math.random() * 25 * 2 ** attempt))
     }
   }
 }
 
+/**
+ * Upserts a batch of device visits by their UUIDs in one transaction and answers per record.
+ * An identical resend is 'duplicate'; an edit made from an out-of-date copy is 'conflict' (the server wins).
+ *
+ * Designed so that concurrent batches do not deadlock: READ COMMITTED (locking reads take no gap locks, so
+ * batches of different devices never block each other's inserts), rows locked and written in id order (two
+ * batches sharing ids wait for each other instead of crossing), the version check inside the UPDATE, and the
+ * duplicate-farm-code flags, which touch other people's visits, set after the commit in a statement of their own.
+ */
+export async function ingestVisits(actor: Actor, records: unknown[]): Promise<SyncAnswer> {
+  const { checked, ctx } = await checkRecords(actor, records)
+  const settings = { farRadiusKm: serverConfig().FIELD_FAR_RADIUS_KM, minInterviewSeconds: serverConfig().FIELD_MIN_INTERVIEW_SECONDS }
+  const results = await withConflictRetry(() => database().transaction(
+    { isolationLevel: Transaction.ISOLATION_LEVELS.READ_COMMITTED },
+    t => writeBatch(actor, checked, ctx, settings, t)))
+  // Idempotent and run for every valid record, stored or not: if it fails, the device's resend (all duplicates)
+  // runs it again, so no flag is lost to a crash between the commit and here.
+  const valid = checked.flatMap(c => 'input' in c && results[c.index]?.status !== 'rejected' ? [c.input] : [])
+  await withConflictRetry(() => flagDuplicateFarmCodes(valid))
+  const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0 }
+  for (const r of results) counts[r.status]++
+  return { results, counts }
+}
+
+type Valid = Extract<Checked, { input: VisitInput }>
+
 async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnType<typeof loadContext>>, settings: { farRadiusKm: number, minInterviewSeconds: number }, transaction: Transaction): Promise<SyncResult[]> {
-  const valid = checked.filter((c): c is Extract<Checked, { input: VisitInput }> => 'input' in c)
-  // One query for every id already on the server, locked until this batch commits.
-  const existing = valid.length
-    ? await Visit.findAll({ where: { id: valid.map(c => c.input.id) }, transaction, lock: transaction.LOCK.UPDATE })
-    : []
-  const byId = new Map(existing.map(v => [v.id, v]))
   const results: SyncResult[] = checked.map(c => 'result' in c ? c.result : { id: c.input.id, status: 'stored' })
-  const toWrite: Array<{ c: typeof valid[number], previous?: Visit }> = []
-  const seenInBatch = new Map<string, string>()
+  // The first record of an id in the batch counts; a later one is a duplicate or, with other content, rejected.
+  const first = new Map<string, Valid>()
+  for (const c of checked) {
+    if (!('input' in c)) continue
+    const earlier = first.get(c.input.id)
+    if (!earlier) first.set(c.input.id, c)
+    else if (earlier.hash === c.hash) results[c.index] = { id: c.input.id, status: 'duplicate' }
+    else results[c.index] = { id: c.input.id, status: 'rejected', errors: { id: 'The same visit id twice in one batch with different content' } }
+  }
+  const valid = [...first.values()].sort((a, b) => a.input.id < b.input.id ? -1 : a.input.id > b.input.id ? 1 : 0)
+  if (!valid.length) return results
+  // Existing rows, locked in primary-key order until the commit; ids not on the server lock nothing.
+  const existing = await Visit.findAll({ where: { id: valid.map(c => c.input.id) }, order: [['id', 'ASC']], transaction, lock: transaction.LOCK.UPDATE })
+  const byId = new Map(existing.map(v => [v.id, v]))
+
+  const columnsFor = (c: Valid) => {
+    const v = c.input
+    const flags = intrinsicFlags(
+      { lat: v.location.lat ?? null, lon: v.location.lon ?? null, startedAt: v.startedAt, savedAt: v.savedAt, answers: v.answers },
+      ctx.villages.get(v.villageId), ctx.versions.get(v.questionnaireVersionId)!.definition.questions, settings)
+    return columnsOf(v, actor, flags, c.hash)
+  }
+  const inserts = []
   for (const c of valid) {
     const previous = byId.get(c.input.id)
-    const earlier = seenInBatch.get(c.input.id)
-    if (earlier !== undefined) {
-      results[c.index] = earlier === c.hash
-        ? { id: c.input.id, status: 'duplicate' }
-        : { id: c.input.id, status: 'rejected', errors: { id: 'The same visit id twice in one batch with different content' } }
-      continue
-    }
-    seenInBatch.set(c.input.id, c.hash)
     if (!previous) {
-      toWrite.push({ c })
-      continue
+      inserts.push(columnsFor(c))
+      results[c.index] = { id: c.input.id, status: 'stored', version: 1 }
     }
-    if (previous.enumeratorId !== actor.id || previous.organisationId !== actor.organisationId) {
+    else if (previous.enumeratorId !== actor.id || previous.organisationId !== actor.organisationId) {
       results[c.index] = { id: c.input.id, status: 'rejected', errors: { id: 'This visit id belongs to another record' } }
     }
     else if (previous.deviceHash === c.hash) {
@@ -166,56 +198,58 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
       results[c.index] = { id: c.input.id, status: 'conflict', version: previous.version, server: serverCopyOf(previous) }
     }
     else {
-      toWrite.push({ c, previous })
+      // A resubmission (after send-back, or an edit before review) replaces the device's fields; the version
+      // the device edited from is part of the statement, so a row changed meanwhile is never overwritten.
+      const { id: _id, ...columns } = columnsFor(c)
+      const [changed] = await Visit.update({ ...columns, version: previous.version + 1 }, {
+        where: { id: c.input.id, version: previous.version, reviewState: { [Op.ne]: 'accepted' } }, transaction
+      })
+      if (changed !== 1) throw Object.assign(new Error('visit changed during the batch'), { errno: 1213 })
+      results[c.index] = { id: c.input.id, status: 'stored', version: previous.version + 1 }
     }
   }
-  if (!toWrite.length) return results
-
-  const duplicates = await duplicateFarmCodes(toWrite.map(w => w.c.input), transaction)
-  const inserts = []
-  for (const { c, previous } of toWrite) {
-    const v = c.input
-    const flags = intrinsicFlags(
-      { lat: v.location.lat ?? null, lon: v.location.lon ?? null, startedAt: v.startedAt, savedAt: v.savedAt, answers: v.answers },
-      ctx.villages.get(v.villageId), ctx.versions.get(v.questionnaireVersionId)!.definition.questions, settings)
-    if (duplicates.flagged.has(v.id)) flags.duplicateFarmCode = true
-    const columns = columnsOf(v, actor, flags, c.hash)
-    if (previous) {
-      // A resubmission (after send-back, or an edit before review) replaces the device's fields.
-      await previous.update({ ...columns, version: previous.version + 1 }, { transaction })
-      results[c.index] = { id: v.id, status: 'stored', version: previous.version }
-    }
-    else {
-      inserts.push(columns)
-      results[c.index] = { id: v.id, status: 'stored', version: 1 }
-    }
-  }
-  if (inserts.length) await Visit.bulkCreate(inserts, { transaction })
-  if (duplicates.earlier.length) {
-    await database().query('UPDATE visits SET flags = JSON_SET(flags, \'$.duplicateFarmCode\', true) WHERE id IN (?)', { replacements: [duplicates.earlier], transaction, type: QueryTypes.UPDATE })
-  }
+  // One multi-row insert in id order (the list is sorted).
+  if (inserts.length) await insertVisits(inserts, transaction)
   return results
 }
 
-/** Visits of this batch whose farm code is already used in their round (or twice in the batch), and the earlier ones. */
-async function duplicateFarmCodes(visits: VisitInput[], transaction: Transaction) {
-  const ids = new Set(visits.map(v => v.id))
-  const rows = await Visit.findAll({
-    attributes: ['id', 'roundId', 'farmCode'],
-    where: { roundId: [...new Set(visits.map(v => v.roundId))], farmCode: [...new Set(visits.map(v => v.farmCode))], id: { [Op.notIn]: [...ids] } },
-    transaction
+const INSERT_COLUMNS = ['id', 'organisation_id', 'round_id', 'village_id', 'enumerator_id', 'questionnaire_version_id', 'farm_code',
+  'lat', 'lon', 'accuracy_m', 'manual_location_reason', 'answers', 'consent_at', 'started_at', 'saved_at', 'adopted',
+  'review_state', 'review_reason', 'flags', 'device_hash', 'version', 'created_at', 'updated_at'] as const
+
+/**
+ * One plain multi-row INSERT. Written by hand rather than through bulkCreate, which builds, validates and
+ * serialises a model instance per visit: app-server CPU is what limits sync throughput (see the CPU columns of
+ * the sync bench), and the rows were validated by the zod schema already.
+ */
+async function insertVisits(rows: Array<ReturnType<typeof columnsOf>>, transaction: Transaction) {
+  const now = new Date()
+  const values = rows.flatMap(r => [r.id, r.organisationId, r.roundId, r.villageId, r.enumeratorId, r.questionnaireVersionId, r.farmCode,
+    r.lat, r.lon, r.accuracyM, r.manualLocationReason, JSON.stringify(r.answers), r.consentAt, r.startedAt, r.savedAt, r.adopted,
+    r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.deviceHash, 1, now, now])
+  const row = `(${INSERT_COLUMNS.map(() => '?').join(', ')})`
+  await database().query(`INSERT INTO visits (${INSERT_COLUMNS.join(', ')}) VALUES ${rows.map(() => row).join(', ')}`, {
+    replacements: values, transaction, type: QueryTypes.INSERT
   })
-  const keyOf = (roundId: number, farmCode: string) => `${roundId}:${farmCode.toLowerCase()}`
-  const counts = new Map<string, number>()
-  for (const v of visits) counts.set(keyOf(v.roundId, v.farmCode), (counts.get(keyOf(v.roundId, v.farmCode)) ?? 0) + 1)
-  const onServer = new Map<string, string[]>()
-  for (const r of rows) onServer.set(keyOf(r.roundId, r.farmCode), [...(onServer.get(keyOf(r.roundId, r.farmCode)) ?? []), r.id])
-  const flagged = new Set<string>()
-  const earlier: string[] = []
-  for (const v of visits) {
-    const key = keyOf(v.roundId, v.farmCode)
-    if ((counts.get(key) ?? 0) > 1 || onServer.has(key)) flagged.add(v.id)
-  }
-  for (const [key, list] of onServer) if (counts.has(key)) earlier.push(...list)
-  return { flagged, earlier }
+}
+
+/**
+ * Marks every visit whose farm code is used more than once in its round, for the rounds and farm codes of this
+ * batch. Runs after the batch committed, as its own statement: it may touch other enumerators' visits, and
+ * holding those locks inside the batch made batches of different people deadlock. Rows are locked in id order.
+ */
+async function flagDuplicateFarmCodes(visits: VisitInput[]) {
+  if (!visits.length) return
+  const rows = await database().query<{ id: string }>(`SELECT v.id FROM visits v
+    JOIN (SELECT round_id, farm_code FROM visits WHERE round_id IN (:rounds) AND farm_code IN (:codes)
+          GROUP BY round_id, farm_code HAVING COUNT(*) > 1) d ON d.round_id = v.round_id AND d.farm_code = v.farm_code
+    WHERE COALESCE(JSON_VALUE(v.flags, '$.duplicateFarmCode'), '') <> 'true'
+    ORDER BY v.id`, {
+    replacements: { rounds: [...new Set(visits.map(v => v.roundId))], codes: [...new Set(visits.map(v => v.farmCode))] },
+    type: QueryTypes.SELECT
+  })
+  if (!rows.length) return
+  await database().query('UPDATE visits SET flags = JSON_SET(flags, \'$.duplicateFarmCode\', true) WHERE id IN (?) ORDER BY id', {
+    replacements: [rows.map(r => r.id)], type: QueryTypes.UPDATE
+  })
 }

@@ -1,7 +1,7 @@
 import 'fake-indexeddb/auto'
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { FieldDatabase, type LocalVisit } from '../../app/utils/field-db'
-import { OfflineError, SessionExpiredError, syncOnce } from '../../app/utils/sync-engine'
+import { OfflineError, ServerBusyError, SessionExpiredError, retryAfterMsOf, syncOnce } from '../../app/utils/sync-engine'
 
 // The tablet's sync pass against a scripted server: what leaves the queue, and when.
 let db: FieldDatabase
@@ -122,5 +122,29 @@ describe('the sync pass', () => {
     expect((await db.photos.get('p1'))!.state).toBe('uploaded')
     expect((await db.photos.get('p2'))!.state).toBe('waiting')
     expect(await db.visits.get(synced.id)).toMatchObject({ state: 'sent_back', reviewReason: 'Check the outcome', baseVersion: 2, answers: { adopted: false } })
+  })
+
+  it('treats 503 and 429 as a busy server: the queue stays, and the wait is the server\'s Retry-After', async () => {
+    await db.visits.bulkAdd([localVisit(), localVisit()])
+    const busy = (status: number, retryAfter: string) => () => new Response(JSON.stringify({ message: 'busy' }), { status, headers: { 'content-type': 'application/json', 'retry-after': retryAfter } })
+    server({ 'GET /api/field/setup': () => json(SETUP), 'POST /api/sync/visits': busy(503, '7') })
+    const unavailable = await syncOnce(db).catch((e: unknown) => e)
+    expect(unavailable).toBeInstanceOf(ServerBusyError)
+    expect(unavailable).toMatchObject({ status: 503, retryAfterMs: 7000, message: 'Server busy, will retry.' })
+    server({ 'GET /api/field/setup': busy(429, '2') })
+    await expect(syncOnce(db)).rejects.toMatchObject({ name: 'ServerBusyError', status: 429, retryAfterMs: 2000 })
+    expect((await db.visits.toArray()).every(v => v.state === 'queued')).toBe(true)
+    expect(await db.cache.get('lastSyncAt')).toBeUndefined()
+    // The next pass, once the server is back, sends them.
+    server({ 'GET /api/field/setup': () => json(SETUP), 'POST /api/sync/visits': stored, 'GET /api/sync/visits': states })
+    expect(await syncOnce(db)).toMatchObject({ sent: 2, stored: 2 })
+  })
+
+  it('reads Retry-After as seconds or as a date, and waits 5 s without one', () => {
+    const now = Date.parse('2026-11-20T09:00:00.000Z')
+    expect(retryAfterMsOf('3', now)).toBe(3000)
+    expect(retryAfterMsOf('Fri, 20 Nov 2026 09:00:30 GMT', now)).toBe(30_000)
+    expect(retryAfterMsOf(null, now)).toBe(5000)
+    expect(retryAfterMsOf('soon', now)).toBe(5000)
   })
 })

@@ -17,7 +17,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
   if (!enumerator) return false
   const { villages, questions, visits } = generateDemo()
   await sequelize.transaction(async (transaction) => {
-    const villageRows = await Village.bulkCreate(villages.map(v => ({
+    await Village.bulkCreate(villages.map(v => ({
       organisationId: organisation.id,
       code: v.code,
       name: v.name,
@@ -26,6 +26,10 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       centreLon: v.centreLon,
       boundary: null
     })), { transaction })
+    // Read the ids back by code: a multi-row insert's ids are not consecutive on a Galera cluster (auto-increment
+    // steps by the node count), so the ids bulkCreate infers from the first one would be wrong there.
+    const byCode = new Map((await Village.findAll({ where: { organisationId: organisation.id, code: villages.map(v => v.code) }, transaction })).map(v => [v.code, v]))
+    const villageRows = villages.map(v => byCode.get(v.code)!)
     const round = await Round.create({
       organisationId: organisation.id,
       name: 'Sorghum seed adoption, 2026 short rains',
