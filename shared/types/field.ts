@@ -12,6 +12,8 @@ export interface FieldVillage {
 
 export interface FieldRound {
   id: number
+  /** A closed round stays on the tablet so its drafts and sent-back visits can still be read; nothing new is recorded. Absent in setups cached before closing existed: read as open. */
+  status?: 'open' | 'closed'
   name: string
   technology: string
   season: string
@@ -48,7 +50,18 @@ export interface VillageRow extends FieldVillage {
   hasBoundary: boolean
 }
 
+/** Visits of one village of a round, by review state (the round's progress). */
+export interface VillageProgress {
+  villageId: number
+  received: number
+  accepted: number
+  sentBack: number
+}
+
 export interface RoundDetail extends RoundRow {
+  /** Visits wanted per village (null: none set). */
+  targetVisitsPerVillage: number | null
+  progress: VillageProgress[]
   questionnaire: QuestionnaireVersionDto | null
   villages: VillageRow[]
   assignments: Array<{ userId: number, villageId: number }>

@@ -4,6 +4,7 @@ import * as m0003 from './0003-field'
 import * as m0004 from './0004-model-runs'
 import * as m0005 from './0005-publications'
 import * as m0006 from './0006-imports'
+import * as m0060 from './0060-round-targets'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
 // Add a new file as NNNN-what-it-does.ts and append it here.
@@ -13,5 +14,6 @@ export const MIGRATIONS = [
   { name: '0003-field', ...m0003 },
   { name: '0004-model-runs', ...m0004 },
   { name: '0005-publications', ...m0005 },
-  { name: '0006-imports', ...m0006 }
+  { name: '0006-imports', ...m0006 },
+  { name: '0060-round-targets', ...m0060 }
 ]

@@ -12,6 +12,8 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
   declare season: string
   declare status: CreationOptional<RoundStatus>
   declare currentVersionId: number | null
+  /** Visits wanted per village; the round page shows progress against it (null: none set). */
+  declare targetVisitsPerVillage: CreationOptional<number | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -24,6 +26,7 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
       season: { type: DataTypes.STRING(60), allowNull: false },
       status: { type: DataTypes.ENUM(...ROUND_STATUSES), allowNull: false, defaultValue: 'draft' },
       currentVersionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+      targetVisitsPerVillage: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true, defaultValue: null },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'rounds' })
