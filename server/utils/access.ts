@@ -14,7 +14,7 @@ export async function requireRole(event: H3Event, roles: readonly Role[]): Promi
   const user = await User.findByPk(session.user.id, { include: [{ model: Organisation, as: 'organisation' }] }) as SignedInUser | null
   if (!user || !user.active) {
     await clearUserSession(event)
-    throw createError({ statusCode: 401, message: 'This account is no longer active. Ask your administrator.' })
+    throw createError({ statusCode: 401, message: 'This account is no longer active. Ask your administrator.', data: { reason: 'deactivated' } })
   }
   // A sealed cookie cannot be revoked, so a password change raises the user's session version instead:
   // every session signed in before it (cookies without a version count as version 0) is refused here.

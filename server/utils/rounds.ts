@@ -38,18 +38,20 @@ export async function roundDetail(organisationId: number, id: number): Promise<R
   const round = await findRound(organisationId, id)
   const [row] = (await listRounds(organisationId)).filter(r => r.id === id)
   const links = await RoundVillage.findAll({ where: { roundId: id } })
-  const [version, villages, assignments, enumerators, counts] = await Promise.all([
-    round.currentVersionId ? QuestionnaireVersion.findByPk(round.currentVersionId) : null,
+  const [versions, villages, assignments, enumerators, counts] = await Promise.all([
+    QuestionnaireVersion.findAll({ where: { roundId: id }, order: [['number', 'ASC']] }),
     Village.findAll({ where: { id: links.map(l => l.villageId), organisationId }, order: [['name', 'ASC']] }),
     Assignment.findAll({ where: { roundId: id }, attributes: ['userId', 'villageId'] }),
     User.findAll({ where: { organisationId, role: 'enumerator', active: true }, attributes: ['id', 'name'], order: [['name', 'ASC']] }),
     Visit.findAll({ where: { roundId: id }, attributes: ['villageId', 'reviewState', [fn('COUNT', col('id')), 'n']], group: ['villageId', 'reviewState'], raw: true })
   ])
+  const dtos = versions.map(v => ({ id: v.id, roundId: v.roundId, number: v.number, definition: v.definition }))
   return {
     ...row!,
     targetVisitsPerVillage: round.targetVisitsPerVillage ?? null,
     progress: progressOf(counts as unknown as Array<{ villageId: number, reviewState: string, n: number }>),
-    questionnaire: version ? { id: version.id, roundId: version.roundId, number: version.number, definition: version.definition } : null,
+    questionnaire: dtos.find(v => v.id === round.currentVersionId) ?? null,
+    questionnaires: dtos,
     villages: villages.map(villageRowOf),
     assignments: assignments.map(a => ({ userId: a.userId, villageId: a.villageId })),
     enumerators: enumerators.map(u => ({ id: u.id, name: u.name }))

@@ -63,6 +63,8 @@ export interface RoundDetail extends RoundRow {
   targetVisitsPerVillage: number | null
   progress: VillageProgress[]
   questionnaire: QuestionnaireVersionDto | null
+  /** Every saved version, oldest first: a visit is shown and corrected with the version it was answered with. */
+  questionnaires: QuestionnaireVersionDto[]
   villages: VillageRow[]
   assignments: Array<{ userId: number, villageId: number }>
   enumerators: Array<{ id: number, name: string }>
@@ -88,4 +90,13 @@ export interface ReviewRow {
   manualLocationReason: string | null
   version: number
   photoIds: string[]
+  /** Every correction made in review, oldest first: who, when, why, and each changed answer's old and new value. */
+  corrections: VisitCorrection[]
+}
+
+export interface VisitCorrection {
+  at: string
+  by: string
+  reason: string
+  changes: Array<{ key: string, before: unknown, after: unknown }>
 }
