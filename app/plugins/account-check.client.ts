@@ -6,7 +6,7 @@ const EVERY_MS = 30_000
 export default defineNuxtPlugin({
   name: 'furrowcast:account-check',
   setup() {
-    const { loggedIn, clear } = useUserSession()
+    const { loggedIn } = useUserSession()
     let checking = false
 
     async function check() {
@@ -16,8 +16,8 @@ export default defineNuxtPlugin({
         const answer = await $fetch.raw('/api/me', { ignoreResponseError: true }).catch(() => null)
         const body = answer?._data as { data?: { reason?: string } } | undefined
         if (answer?.status === 401 && body?.data?.reason === 'deactivated') {
-          await clear().catch(() => undefined)
-          await navigateTo({ path: '/signin', query: { done: 'deactivated' } })
+          // The server has already ended the session; a full load of the sign-in page drops what this page still holds.
+          window.location.replace('/signin?done=deactivated')
         }
       }
       finally {
