@@ -41,8 +41,36 @@ export function usePeopleActions(refresh: () => Promise<unknown>) {
     () => $fetch(`/api/people/${row.id}`, { method: 'PATCH', body }),
     () => done).catch(() => refresh())
 
-  const setRole = (row: PersonRow, role: Role) => update(row, { role }, `${row.name} is now ${ROLE_LABELS[role].toLowerCase()}.`)
-  const setActive = (row: PersonRow, active: boolean) => update(row, { active }, `${row.name} is ${active ? 'active again' : 'deactivated'}.`)
+  const { ask } = useConfirm()
+
+  async function setRole(row: PersonRow, role: Role) {
+    if (role === row.role) return
+    const ok = await ask({
+      title: `Make ${row.name} ${ROLE_LABELS[role].toLowerCase()}?`,
+      points: [
+        `${row.name} is ${ROLE_LABELS[row.role].toLowerCase()} today and will be ${ROLE_LABELS[role].toLowerCase()} from their next step in Furrowcast.`,
+        `They see the pages of a ${ROLE_LABELS[role].toLowerCase()} and lose those of a ${ROLE_LABELS[row.role].toLowerCase()}.`,
+        'You can change the role back here at any time; the change is written to the audit log.'
+      ],
+      confirmLabel: `Make ${ROLE_LABELS[role].toLowerCase()}`
+    })
+    if (ok) await update(row, { role }, `${row.name} is now ${ROLE_LABELS[role].toLowerCase()}.`)
+  }
+
+  async function setActive(row: PersonRow, active: boolean) {
+    // Reactivating gives access back and takes nothing away: no question asked.
+    if (!active && !await ask({
+      title: `Deactivate ${row.name}?`,
+      points: [
+        `${row.name} loses access at their next step in Furrowcast and can no longer sign in.`,
+        'Their visits, fits and audit entries stay as they are.',
+        'You can reactivate them here later.'
+      ],
+      confirmLabel: 'Deactivate',
+      tone: 'danger'
+    })) return
+    await update(row, { active }, `${row.name} is ${active ? 'active again' : 'deactivated'}.`)
+  }
 
   const endSessions = (row: PersonRow) => run(row.id,
     () => $fetch<{ ended: number }>(`/api/people/${row.id}/sessions`, { method: 'DELETE' }),

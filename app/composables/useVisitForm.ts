@@ -19,7 +19,9 @@ export function useVisitForm() {
   const errors = ref<FieldErrors>({})
   const notFound = ref(false)
   const saving = ref(false)
-  const readOnly = computed(() => !visit.value || !EDITABLE.includes(visit.value.state))
+  /** The visit's round was closed on the server: the visit stays readable here but nothing can change or be sent. */
+  const roundClosed = ref(false)
+  const readOnly = computed(() => !visit.value || roundClosed.value || !EDITABLE.includes(visit.value.state))
   let db: ReturnType<typeof fieldDb>
   let saveTimer: ReturnType<typeof setTimeout> | undefined
   /** Typed but not yet written to the device. */
@@ -35,7 +37,7 @@ export function useVisitForm() {
     const setup = await db.setup()
     const id = typeof route.query.id === 'string' ? route.query.id : null
     if (!id) {
-      const round = setup?.rounds.find(r => r.id === Number(route.query.round))
+      const round = setup?.rounds.find(r => r.id === Number(route.query.round) && r.status !== 'closed')
       if (!round) {
         notFound.value = true
         return
@@ -60,6 +62,7 @@ export function useVisitForm() {
       return
     }
     stored.value = true
+    roundClosed.value = setup?.rounds.find(r => r.id === found.roundId)?.status === 'closed'
     visit.value = found
     errors.value = found.errors ?? {}
   }
@@ -176,5 +179,5 @@ export function useVisitForm() {
     if (dirty) void persist()
   })
 
-  return { visit, version, errors, notFound, saving, readOnly, justSaved, stored, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
+  return { visit, version, errors, notFound, saving, readOnly, roundClosed, justSaved, stored, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
 }

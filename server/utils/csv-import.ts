@@ -106,7 +106,7 @@ export async function previewImport(user: SignedInUser, roundId: number, request
     rowCount: rows.length,
     validCount: mappingProblems.length ? 0 : rows.length - rejected,
     rejectedCount: mappingProblems.length ? rows.length : rejected,
-    rows: rows.slice(0, IMPORT_PREVIEW_ROWS).map(r => ({ row: r.row, farmCode: r.farmCode, villageCode: r.villageCode, answers: r.answers, valid: !r.problems.length })),
+    rows: rows.slice(0, IMPORT_PREVIEW_ROWS).map(r => ({ row: r.row, farmCode: r.farmCode, villageCode: r.villageCode, visitDate: r.visitDate, answers: r.answers, valid: !r.problems.length })),
     mappingProblems,
     ...reportOf(rows)
   }
@@ -124,7 +124,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
   await refuseRepeat(roundId, fileSha256)
   const valid = rows.filter(r => !r.problems.length)
   const rejectedCount = rows.length - valid.length
-  const outcome = { rowCount: rows.length, rejectedCount, ...reportOf(rows), rejectedCsv: rejectedRowsCsv(parsed.columns, rows) }
+  const outcome = { rowCount: rows.length, rejectedCount, ...reportOf(rows), rejectedCsv: rejectedRowsCsv(parsed.columns, rows, ctx.questions) }
   if (request.mode === 'all-or-nothing' && rejectedCount) {
     setResponseStatus(event, 422)
     return { ...outcome, importedCount: 0, message: `Nothing was imported: ${rejectedCount} of ${rows.length} rows have problems. Correct them, or import the valid rows only.` }
@@ -134,6 +134,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
     return { ...outcome, importedCount: 0, message: `Nothing was imported: none of the ${rows.length} rows passed the checks.` }
   }
   let importId: number
+  let toReview = 0
   try {
     importId = await database().transaction(async (transaction) => {
       const batch = await ImportBatch.create({
@@ -159,6 +160,8 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
         const edges = edgeValues(ctx.questions, r.answers)
         if (edges.length) flags.edgeValues = edges
         if (onServer.has(key) || (inFile.get(key) ?? 0) > 1) flags.duplicateFarmCode = true
+        // The day of the visit when the file gives one (noon UTC, so it reads as the same day everywhere).
+        const at = r.visitDate ? new Date(`${r.visitDate}T12:00:00Z`) : now
         return {
           id: randomUUID(),
           organisationId: user.organisationId,
@@ -172,12 +175,13 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
           accuracyM: null,
           manualLocationReason: 'imported',
           answers: r.answers,
-          consentAt: now,
-          startedAt: now,
-          savedAt: now,
+          consentAt: at,
+          startedAt: at,
+          savedAt: at,
           adopted: adoptedOf(r.answers),
-          // Past survey data were reviewed where they were collected: they count as accepted at once.
-          reviewState: 'accepted' as const,
+          // Past survey data were reviewed where they were collected: they count as accepted at once, except a farm
+          // code seen twice (in the file or already in the round), which waits in review with its flag.
+          reviewState: flags.duplicateFarmCode ? 'received' as const : 'accepted' as const,
           reviewReason: null,
           flags,
           deviceHash: createHash('sha256').update(`${fileSha256}:${r.row}`).digest('hex'),
@@ -185,6 +189,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
           importId: batch.id
         }
       })
+      toReview = visits.filter(v => v.reviewState === 'received').length
       for (let i = 0; i < visits.length; i += 1000) await Visit.bulkCreate(visits.slice(i, i + 1000), { transaction })
       await bumpDataVersion(roundId, transaction)
       const clashing = earlier.filter(v => inFile.has(v.farmCode.toLowerCase())).map(v => v.id)
@@ -204,9 +209,12 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
     if ((error as { name?: string }).name === 'SequelizeUniqueConstraintError') await refuseRepeat(roundId, fileSha256)
     throw error
   }
-  const message = rejectedCount
+  const review = toReview
+    ? ` ${toReview} of them use a farm code seen twice (in the file or already in the round) and wait in review, flagged.`
+    : ''
+  const message = (rejectedCount
     ? `Imported ${valid.length} of ${rows.length} rows; ${rejectedCount} rejected (download them with the reasons).`
-    : `Imported all ${valid.length} rows.`
+    : `Imported all ${valid.length} rows.`) + review
   return { ...outcome, importId, importedCount: valid.length, message }
 }
 

@@ -9,7 +9,8 @@ interface Actor { id: number, organisationId: number }
 export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
   const assignments = await Assignment.findAll({ where: { userId: actor.id } })
   const rounds = await Round.findAll({
-    where: { id: [...new Set(assignments.map(a => a.roundId))], organisationId: actor.organisationId, status: 'open' },
+    // Closed rounds too: the tablet keeps showing their drafts and sent-back visits (read-only) instead of losing them.
+    where: { id: [...new Set(assignments.map(a => a.roundId))], organisationId: actor.organisationId, status: ['open', 'closed'] },
     order: [['id', 'ASC']]
   })
   const roundIds = rounds.map(r => r.id)
@@ -21,6 +22,7 @@ export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
   return {
     rounds: rounds.filter(r => r.currentVersionId !== null).map(r => ({
       id: r.id,
+      status: r.status === 'closed' ? 'closed' as const : 'open' as const,
       name: r.name,
       technology: r.technology,
       season: r.season,

@@ -1,10 +1,10 @@
 import type { H3Event } from 'h3'
 import { Op, literal, type Order, type WhereOptions } from 'sequelize'
 import type { Page } from '#shared/types/listing'
-import type { ReviewRow } from '#shared/types/field'
-import type { ReviewAction, ReviewQuery } from '#shared/utils/schemas/review'
+import type { ReviewRow, VisitCorrection } from '#shared/types/field'
+import type { BulkAccept, ReviewAction, ReviewQuery } from '#shared/utils/schemas/review'
 import { answersSchemaFor, adoptedOf } from '#shared/utils/schemas/visit'
-import { Photo, QuestionnaireVersion, User, Village, Visit } from '../db/models'
+import { AuditEntry, Photo, QuestionnaireVersion, Round, User, Village, Visit } from '../db/models'
 import { database } from '../db/connection'
 import type { SignedInUser } from './access'
 import { edgeValues } from './visit-flags'
@@ -29,6 +29,7 @@ export async function listReviewVisits(organisationId: number, q: ReviewQuery): 
   if (q.from || q.to) Object.assign(where, { savedAt: range })
   if (q.flagged === '1') Object.assign(where, { [Op.and]: [literal('JSON_LENGTH(`Visit`.`flags`) > 0')] })
   if (q.flagged === '0') Object.assign(where, { [Op.and]: [literal('JSON_LENGTH(`Visit`.`flags`) = 0')] })
+  if (q.farm) Object.assign(where, { farmCode: { [Op.substring]: q.farm } })
   const { rows, count } = await Visit.findAndCountAll({
     where,
     include: [
@@ -39,11 +40,40 @@ export async function listReviewVisits(organisationId: number, q: ReviewQuery): 
     limit: q.pageSize,
     offset: (q.page - 1) * q.pageSize
   })
-  const photos = await Photo.findAll({ where: { visitId: rows.map(r => r.id), status: 'stored' }, attributes: ['id', 'visitId'], order: [['createdAt', 'ASC']] })
-  return { items: rows.map(v => reviewRowOf(v, photos.filter(p => p.visitId === v.id).map(p => p.id))), total: count, page: q.page, pageSize: q.pageSize }
+  const [photos, corrections] = await Promise.all([
+    Photo.findAll({ where: { visitId: rows.map(r => r.id), status: 'stored' }, attributes: ['id', 'visitId'], order: [['createdAt', 'ASC']] }),
+    correctionsOf(organisationId, rows.map(r => r.id))
+  ])
+  return {
+    items: rows.map(v => reviewRowOf(v, photos.filter(p => p.visitId === v.id).map(p => p.id), corrections.get(v.id) ?? [])),
+    total: count,
+    page: q.page,
+    pageSize: q.pageSize
+  }
 }
 
-function reviewRowOf(v: Visit, photoIds: string[]): ReviewRow {
+/** The corrections of these visits, read back from the audit log (which keeps each changed answer's old value). */
+async function correctionsOf(organisationId: number, visitIds: string[]): Promise<Map<string, VisitCorrection[]>> {
+  const byVisit = new Map<string, VisitCorrection[]>()
+  if (!visitIds.length) return byVisit
+  const entries = await AuditEntry.findAll({ where: { organisationId, action: 'visit.correct', entityType: 'visit', entityId: visitIds }, order: [['id', 'ASC']] })
+  const people = await User.findAll({ where: { id: [...new Set(entries.map(e => e.actorUserId ?? 0))], organisationId }, attributes: ['id', 'name'] })
+  for (const e of entries) {
+    const details = (e.details ?? {}) as { reason?: string, before?: Record<string, unknown>, after?: Record<string, unknown> }
+    const keys = Object.keys({ ...details.before, ...details.after })
+    const list = byVisit.get(e.entityId!) ?? []
+    list.push({
+      at: e.createdAt.toISOString(),
+      by: people.find(p => p.id === e.actorUserId)?.name ?? e.actorEmail ?? 'Someone no longer in the organisation',
+      reason: details.reason ?? '',
+      changes: keys.map(key => ({ key, before: details.before?.[key] ?? null, after: details.after?.[key] ?? null }))
+    })
+    byVisit.set(e.entityId!, list)
+  }
+  return byVisit
+}
+
+function reviewRowOf(v: Visit, photoIds: string[], corrections: VisitCorrection[]): ReviewRow {
   const joined = v as Visit & { village?: Village, enumerator?: User }
   return {
     id: v.id,
@@ -64,7 +94,8 @@ function reviewRowOf(v: Visit, photoIds: string[]): ReviewRow {
     accuracyM: v.accuracyM,
     manualLocationReason: v.manualLocationReason,
     version: v.version,
-    photoIds
+    photoIds,
+    corrections
   }
 }
 
@@ -104,5 +135,28 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
       await audit(event, user, { ...base, details: { reason: action.reason, before, after } }, transaction)
     }
     return { id, reviewState: visit.reviewState, version: visit.version }
+  })
+}
+
+/**
+ * Accepts, in one transaction, every unflagged visit of a round that is still to review (within the filters).
+ * The coordinator confirmed a count: if the list changed since (new visits synced, another reviewer), nothing is
+ * written and the answer says so, so a confirmation never covers visits nobody saw counted.
+ */
+export async function acceptUnflagged(event: H3Event, user: SignedInUser, input: BulkAccept) {
+  return database().transaction(async (transaction) => {
+    const round = await Round.findOne({ where: { id: input.roundId, organisationId: user.organisationId }, transaction })
+    if (!round) throw createError({ statusCode: 404, message: 'No such round.' })
+    const where: WhereOptions<Visit> = { organisationId: user.organisationId, roundId: round.id, reviewState: 'received', [Op.and]: [literal('JSON_LENGTH(`Visit`.`flags`) = 0')] }
+    if (input.villageId) Object.assign(where, { villageId: input.villageId })
+    if (input.enumeratorId) Object.assign(where, { enumeratorId: input.enumeratorId })
+    if (input.farm) Object.assign(where, { farmCode: { [Op.substring]: input.farm } })
+    const visits = await Visit.findAll({ where, attributes: ['id'], transaction, lock: transaction.LOCK.UPDATE })
+    if (visits.length !== input.count) {
+      throw createError({ statusCode: 409, message: `The list changed since you looked: ${visits.length} unflagged visits are waiting now, not ${input.count}. Nothing was accepted; check the list and try again.` })
+    }
+    await Visit.update({ reviewState: 'accepted', reviewReason: null, version: literal('version + 1') as unknown as number }, { where: { id: visits.map(v => v.id) }, transaction })
+    await audit(event, user, { action: 'visit.bulk_accept', entityType: 'round', entityId: round.id, details: { name: round.name, count: visits.length } }, transaction)
+    return { accepted: visits.length }
   })
 }

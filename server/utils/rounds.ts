@@ -1,8 +1,8 @@
 import type { H3Event } from 'h3'
 import { fn, col } from 'sequelize'
-import type { RoundDetail, RoundRow, VillageRow } from '#shared/types/field'
-import { type Question, questionnaireDefinitionSchema, withOutcomeQuestion } from '#shared/utils/schemas/questionnaire'
-import type { RoundCreate, VillageCreate } from '#shared/utils/schemas/round'
+import type { RoundDetail, RoundRow, VillageProgress, VillageRow } from '#shared/types/field'
+import { OUTCOME_KEY, type Question, questionnaireDefinitionSchema, withOutcomeQuestion } from '#shared/utils/schemas/questionnaire'
+import type { RoundCreate, RoundPatch, VillageCreate } from '#shared/utils/schemas/round'
 import { Assignment, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../db/models'
 import { database } from '../db/connection'
 import type { SignedInUser } from './access'
@@ -38,19 +38,36 @@ export async function roundDetail(organisationId: number, id: number): Promise<R
   const round = await findRound(organisationId, id)
   const [row] = (await listRounds(organisationId)).filter(r => r.id === id)
   const links = await RoundVillage.findAll({ where: { roundId: id } })
-  const [version, villages, assignments, enumerators] = await Promise.all([
-    round.currentVersionId ? QuestionnaireVersion.findByPk(round.currentVersionId) : null,
+  const [versions, villages, assignments, enumerators, counts] = await Promise.all([
+    QuestionnaireVersion.findAll({ where: { roundId: id }, order: [['number', 'ASC']] }),
     Village.findAll({ where: { id: links.map(l => l.villageId), organisationId }, order: [['name', 'ASC']] }),
     Assignment.findAll({ where: { roundId: id }, attributes: ['userId', 'villageId'] }),
-    User.findAll({ where: { organisationId, role: 'enumerator', active: true }, attributes: ['id', 'name'], order: [['name', 'ASC']] })
+    User.findAll({ where: { organisationId, role: 'enumerator', active: true }, attributes: ['id', 'name'], order: [['name', 'ASC']] }),
+    Visit.findAll({ where: { roundId: id }, attributes: ['villageId', 'reviewState', [fn('COUNT', col('id')), 'n']], group: ['villageId', 'reviewState'], raw: true })
   ])
+  const dtos = versions.map(v => ({ id: v.id, roundId: v.roundId, number: v.number, definition: v.definition }))
   return {
     ...row!,
-    questionnaire: version ? { id: version.id, roundId: version.roundId, number: version.number, definition: version.definition } : null,
+    targetVisitsPerVillage: round.targetVisitsPerVillage ?? null,
+    progress: progressOf(counts as unknown as Array<{ villageId: number, reviewState: string, n: number }>),
+    questionnaire: dtos.find(v => v.id === round.currentVersionId) ?? null,
+    questionnaires: dtos,
     villages: villages.map(villageRowOf),
     assignments: assignments.map(a => ({ userId: a.userId, villageId: a.villageId })),
     enumerators: enumerators.map(u => ({ id: u.id, name: u.name }))
   }
+}
+
+function progressOf(counts: Array<{ villageId: number, reviewState: string, n: number }>): VillageProgress[] {
+  const byVillage = new Map<number, VillageProgress>()
+  for (const c of counts) {
+    const p = byVillage.get(c.villageId) ?? { villageId: c.villageId, received: 0, accepted: 0, sentBack: 0 }
+    if (c.reviewState === 'accepted') p.accepted += Number(c.n)
+    else if (c.reviewState === 'sent_back') p.sentBack += Number(c.n)
+    else p.received += Number(c.n)
+    byVillage.set(c.villageId, p)
+  }
+  return [...byVillage.values()]
 }
 
 export function villageRowOf(v: Village): VillageRow {
@@ -59,27 +76,48 @@ export function villageRowOf(v: Village): VillageRow {
 
 export async function createRound(event: H3Event, user: SignedInUser, input: RoundCreate) {
   return database().transaction(async (transaction) => {
-    const round = await Round.create({ ...input, organisationId: user.organisationId, status: 'draft', currentVersionId: null }, { transaction })
-    const definition = { questions: withOutcomeQuestion([], input.technology) }
+    const { copyFromRoundId, ...fields } = input
+    let copied: Question[] = []
+    if (copyFromRoundId) {
+      // A copy of the earlier round's current questionnaire; its adoption question is asked about the new technology.
+      const source = await findRound(user.organisationId, copyFromRoundId)
+      const version = source.currentVersionId ? await QuestionnaireVersion.findByPk(source.currentVersionId, { transaction }) : null
+      copied = questionnaireDefinitionSchema.parse(version?.definition ?? { questions: [] }).questions.filter(q => q.key !== OUTCOME_KEY)
+    }
+    const round = await Round.create({ ...fields, organisationId: user.organisationId, status: 'draft', currentVersionId: null }, { transaction })
+    const definition = { questions: withOutcomeQuestion(copied, fields.technology) }
     const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition, frozenAt: null }, { transaction })
     await round.update({ currentVersionId: version.id }, { transaction })
-    await audit(event, user, { action: 'round.create', entityType: 'round', entityId: round.id, details: input }, transaction)
+    await audit(event, user, { action: 'round.create', entityType: 'round', entityId: round.id, details: { ...fields, ...(copyFromRoundId ? { copiedFromRoundId: copyFromRoundId } : {}) } }, transaction)
     return { id: round.id }
   })
 }
 
-export async function setRoundStatus(event: H3Event, user: SignedInUser, id: number, status: 'open' | 'closed') {
+// Draft → open (freezes the questionnaire), open → closed (tablets stop recording), closed → open (undoes a close).
+const STATUS_CHANGES: Record<string, string[]> = { draft: ['open'], open: ['closed'], closed: ['open'] }
+
+export async function updateRound(event: H3Event, user: SignedInUser, id: number, patch: RoundPatch) {
   return database().transaction(async (transaction) => {
     const round = await findRound(user.organisationId, id)
-    const allowed = (round.status === 'draft' && status === 'open') || (round.status === 'open' && status === 'closed')
-    if (!allowed) throw createError({ statusCode: 409, message: `A ${round.status} round cannot become ${status}.` })
-    if (status === 'open') {
-      // Opening freezes the questionnaire: from now on every edit makes a new version.
-      await QuestionnaireVersion.update({ frozenAt: new Date() }, { where: { id: round.currentVersionId!, frozenAt: null }, transaction })
+    if (patch.status && patch.status !== round.status) {
+      const from = round.status
+      if (!STATUS_CHANGES[from]!.includes(patch.status)) {
+        throw createError({ statusCode: 409, message: `A ${from} round cannot be ${patch.status === 'open' ? 'opened' : 'closed'}.` })
+      }
+      if (patch.status === 'open' && from === 'draft') {
+        // Opening freezes the questionnaire: from now on every edit makes a new version.
+        await QuestionnaireVersion.update({ frozenAt: new Date() }, { where: { id: round.currentVersionId!, frozenAt: null }, transaction })
+      }
+      await round.update({ status: patch.status }, { transaction })
+      const action = from === 'closed' ? 'round.reopen' : `round.${patch.status}`
+      await audit(event, user, { action, entityType: 'round', entityId: id, details: { name: round.name, from, to: patch.status } }, transaction)
     }
-    await round.update({ status }, { transaction })
-    await audit(event, user, { action: `round.${status}`, entityType: 'round', entityId: id }, transaction)
-    return { id, status }
+    if (patch.targetVisitsPerVillage !== undefined && patch.targetVisitsPerVillage !== round.targetVisitsPerVillage) {
+      const before = round.targetVisitsPerVillage
+      await round.update({ targetVisitsPerVillage: patch.targetVisitsPerVillage }, { transaction })
+      await audit(event, user, { action: 'round.target', entityType: 'round', entityId: id, details: { name: round.name, from: before, to: patch.targetVisitsPerVillage } }, transaction)
+    }
+    return { id, status: round.status, targetVisitsPerVillage: round.targetVisitsPerVillage }
   })
 }
 

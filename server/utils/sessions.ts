@@ -74,7 +74,8 @@ export async function currentSession(event: H3Event): Promise<CurrentSession | n
 /** 401 with the reason the caller's session is not live. */
 export async function sessionRefusal(event: H3Event) {
   const { problem } = await lookUpSession(event)
-  return createError({ statusCode: 401, message: problem })
+  // An open page tells a deactivation apart (app/plugins/account-check.client.ts signs the person out with a message).
+  return createError({ statusCode: 401, message: problem, ...(problem === ENDED.deactivated ? { data: { reason: 'deactivated' } } : {}) })
 }
 
 function lookUpSession(event: H3Event): Promise<SessionLookup> {

@@ -12,6 +12,8 @@ export interface FieldVillage {
 
 export interface FieldRound {
   id: number
+  /** A closed round stays on the tablet so its drafts and sent-back visits can still be read; nothing new is recorded. Absent in setups cached before closing existed: read as open. */
+  status?: 'open' | 'closed'
   name: string
   technology: string
   season: string
@@ -48,8 +50,21 @@ export interface VillageRow extends FieldVillage {
   hasBoundary: boolean
 }
 
+/** Visits of one village of a round, by review state (the round's progress). */
+export interface VillageProgress {
+  villageId: number
+  received: number
+  accepted: number
+  sentBack: number
+}
+
 export interface RoundDetail extends RoundRow {
+  /** Visits wanted per village (null: none set). */
+  targetVisitsPerVillage: number | null
+  progress: VillageProgress[]
   questionnaire: QuestionnaireVersionDto | null
+  /** Every saved version, oldest first: a visit is shown and corrected with the version it was answered with. */
+  questionnaires: QuestionnaireVersionDto[]
   villages: VillageRow[]
   assignments: Array<{ userId: number, villageId: number }>
   enumerators: Array<{ id: number, name: string }>
@@ -75,4 +90,13 @@ export interface ReviewRow {
   manualLocationReason: string | null
   version: number
   photoIds: string[]
+  /** Every correction made in review, oldest first: who, when, why, and each changed answer's old and new value. */
+  corrections: VisitCorrection[]
+}
+
+export interface VisitCorrection {
+  at: string
+  by: string
+  reason: string
+  changes: Array<{ key: string, before: unknown, after: unknown }>
 }

@@ -43,4 +43,10 @@ export interface AuditRow {
   entityId: string | null
   ip: string | null
   details: Record<string, unknown> | null
+  /** The action in words ("Changed a role"). */
+  actionLabel: string
+  /** The record in words: its type and name ("Person · Amina Otieno"), or null when the entry has none. */
+  recordLabel: string | null
+  /** The details as lines to read: old → new role, old → new answers of a correction, the reason. */
+  lines: string[]
 }

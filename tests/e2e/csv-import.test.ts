@@ -3,6 +3,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
 import { User, Visit } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
+import { watchConsole } from '../support/console'
 import { type TestRound, makeRound } from '../support/field'
 import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
 
@@ -57,7 +58,8 @@ describe('the coordinator imports past survey data from a CSV file', () => {
     await expect.poll(() => page.getByTestId('import-counts').textContent()).toContain('3 rows: 2 pass the checks, 1 do not')
     const problems = await page.getByTestId('import-problem').allTextContents()
     expect(problems).toHaveLength(1)
-    expect(problems[0]).toMatch(/4\s*farm_size_ha\s*farm_size_ha\s*Enter a number \(found "lots"\)/)
+    // The problem names the question by its label; the column is the file's own header.
+    expect(problems[0]).toMatch(/4\s*Farm size\s*farm_size_ha\s*Enter a number \(found "lots"\)/)
 
     await page.getByRole('button', { name: 'Import', exact: true }).click()
     await expect.poll(() => page.getByTestId('import-outcome').textContent()).toMatch(/Nothing was imported: 1 of 3 rows have problems/)
@@ -69,6 +71,36 @@ describe('the coordinator imports past survey data from a CSV file', () => {
     expect(await page.getByRole('link', { name: 'Download the rejected rows (CSV)' }).getAttribute('download')).toBe('rejected-last-season.csv')
     expect(await Visit.count({ where: { roundId: round.roundId, source: 'import' } })).toBe(2)
     await page.screenshot({ path: `${SCREENSHOTS}/csv-import.png`, fullPage: true })
+    await context.close()
+  })
+
+  it('reads decimal commas in a semicolon file, takes a visit-date column and sends repeated farm codes to review', async () => {
+    const context = await newTabletContext(browser)
+    const page = await context.newPage()
+    const problemsLogged = watchConsole(page)
+    const next = `/rounds/${round.roundId}/import`
+    await signIn(page, 'coordinator', next)
+    await expect.poll(() => page.getByLabel('CSV file').isEnabled(), { timeout: 15_000 }).toBe(true)
+    const csv = [
+      'farm_code;village;adopted;farm_size_ha;household_size;visit_date',
+      `SEMI-1;${villageCode};yes;2,75;6;2026-03-14`,
+      `SEMI-1;${villageCode};no;1,5;4;2026-03-15`,
+      `SEMI-2;${villageCode};no;0,5;3;2026-03-16`
+    ].join('\n')
+    await page.getByLabel('CSV file').setInputFiles({ name: 'semicolons.csv', mimeType: 'text/csv', buffer: Buffer.from(csv) })
+    await expect.poll(() => page.getByTestId('import-file-summary').textContent()).toContain('separated by semicolons')
+    expect(await page.getByLabel('Visit date').inputValue()).toBe('visit_date')
+    await page.getByRole('button', { name: 'Check the rows' }).click()
+    await expect.poll(() => page.getByTestId('import-counts').textContent()).toContain('3 rows: 3 pass the checks, 0 do not')
+    const preview = await page.getByTestId('import-preview').textContent()
+    expect(preview).toContain('2.75')
+    expect(preview).toContain('2026-03-14')
+    await page.getByRole('button', { name: 'Import', exact: true }).click()
+    await expect.poll(() => page.getByTestId('import-outcome').textContent()).toContain('2 of them use a farm code seen twice')
+    await page.screenshot({ path: `${SCREENSHOTS}/csv-import-semicolons.png`, fullPage: true })
+    const twice = await Visit.findAll({ where: { roundId: round.roundId, farmCode: 'SEMI-1' } })
+    expect(twice.map(v => v.reviewState)).toEqual(['received', 'received'])
+    expect(problemsLogged).toEqual([])
     await context.close()
   })
 })

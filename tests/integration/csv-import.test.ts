@@ -52,7 +52,7 @@ describe('preview: columns, mapped rows and a report per row, nothing written', 
     expect(answer.body.columns).toEqual(['farm', 'village', 'adopted', 'farm_size_ha', 'household_size', 'group_member'])
     expect(answer.body.delimiter).toBe(',')
     expect(answer.body).toMatchObject({ rowCount: 7, validCount: 2, rejectedCount: 5, mappingProblems: [] })
-    expect(answer.body.rows[0]).toEqual({ row: 2, farmCode: 'PV-1', villageCode: villageA, answers: { adopted: true, farm_size_ha: 2.5, household_size: 6, group_member: false }, valid: true })
+    expect(answer.body.rows[0]).toEqual({ row: 2, farmCode: 'PV-1', villageCode: villageA, visitDate: null, answers: { adopted: true, farm_size_ha: 2.5, household_size: 6, group_member: false }, valid: true })
     expect(answer.body.rows[1]!.answers).toEqual({ adopted: false, farm_size_ha: 1.25, household_size: 4 })
     const byRow = (row: number) => answer.body.report.filter(p => p.row === row).map(p => [p.field, p.message])
     expect(byRow(4)).toEqual([['adopted', 'Choose yes or no (found "maybe")']])
@@ -234,7 +234,8 @@ describe('import: all-or-nothing, valid-only, marked as imported, audited', () =
     const lines = answer.body.rejectedCsv.split('\n')
     expect(lines[0]).toBe('farm,village,adopted,farm_size_ha,household_size,group_member,reason')
     expect(lines.length).toBe(6)
-    expect(lines[1]).toBe('VO-3,' + villageA + ',maybe,2,5,yes,"adopted: Choose yes or no (found ""maybe"")"')
+    // The reason names the question by its label, never by its internal key.
+    expect(lines[1]).toBe('VO-3,' + villageA + ',maybe,2,5,yes,"Has this farm adopted test seed this season? — Choose yes or no (found ""maybe"")"')
     const batch = await ImportBatch.findByPk(answer.body.importId)
     expect(batch).toMatchObject({ fileName: 'past.csv', mode: 'valid-only', rowsTotal: 7, rowsImported: 2, rowsRejected: 5 })
     const entry = await AuditEntry.findOne({ where: { action: 'visits.import', entityId: String(round.roundId) } })
@@ -254,6 +255,26 @@ describe('import: all-or-nothing, valid-only, marked as imported, audited', () =
     // VO-1 is in the round twice now: both copies carry the duplicate farm code flag, as synced visits do.
     const twice = await Visit.findAll({ where: { roundId: round.roundId, farmCode: 'VO-1' } })
     expect(twice.map(v => v.flags.duplicateFarmCode)).toEqual([true, true])
+    // The imported copy is not accepted on its own: it waits in review with its flag.
+    expect(twice.find(v => v.importId === answer.body.importId)!.reviewState).toBe('received')
+    expect((await Visit.findOne({ where: { roundId: round.roundId, farmCode: 'VO-3' } }))!.reviewState).toBe('accepted')
+    expect(answer.body.message).toContain('1 of them use a farm code seen twice')
+  })
+
+  it('reads decimal commas in a semicolon file, dates visits from a mapped column, and sends farm codes twice in a file to review', async () => {
+    const csv = `farm;village;adopted;farm_size_ha;household_size;day\nDC-1;${villageA};yes;2,75;5;2026-03-14\nDC-1;${villageA};no;1,5;3;2026-03-15\nDC-2;${villageB};no;0,5;2;2026-13-01\n`
+    const request = body(csv, { mode: 'valid-only', mapping: { ...mapping, visitDate: 'day', questions: { adopted: 'adopted', farm_size_ha: 'farm_size_ha', household_size: 'household_size' } } })
+    const preview = await coordinator.post<ImportPreview>(`${importsOf(round.roundId)}/preview`, request)
+    expect(preview.status).toBe(200)
+    expect(preview.body.rows[0]).toMatchObject({ farmCode: 'DC-1', visitDate: '2026-03-14', answers: { farm_size_ha: 2.75 }, valid: true })
+    expect(preview.body.report).toEqual([{ row: 4, field: 'visitDate', column: 'day', message: 'Write the visit date as YYYY-MM-DD, e.g. 2026-03-14 (found "2026-13-01")' }])
+    const answer = await coordinator.post<ImportOutcome>(importsOf(round.roundId), request)
+    expect(answer.status).toBe(200)
+    const stored = await Visit.findAll({ where: { roundId: round.roundId, farmCode: 'DC-1' }, order: [['savedAt', 'ASC']] })
+    expect(stored.map(v => v.answers.farm_size_ha)).toEqual([2.75, 1.5])
+    expect(stored.map(v => v.savedAt.toISOString().slice(0, 10))).toEqual(['2026-03-14', '2026-03-15'])
+    expect(stored.map(v => v.reviewState)).toEqual(['received', 'received'])
+    expect(stored.every(v => v.flags.duplicateFarmCode === true)).toBe(true)
   })
 
   it('accepts the yes/no words of the file and a configured pair', async () => {

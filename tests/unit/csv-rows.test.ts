@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { CsvFileError, checkRows, parseCsv, rejectedRowsCsv } from '../../shared/utils/imports/csv-rows'
+import { CsvFileError, checkRows, parseCsv, rejectedRowsCsv, visitDayOf } from '../../shared/utils/imports/csv-rows'
 import { importRequestSchema } from '../../shared/utils/schemas/csv-import'
 import { outcomeQuestion, questionnaireDefinitionSchema } from '../../shared/utils/schemas/questionnaire'
 
@@ -45,6 +45,31 @@ describe('checkRows', () => {
       ['soil', 'Choose one of the listed answers (found "Loam")']
     ])
     expect(rejectedRowsCsv(parsed.columns, rows).split('\n')).toHaveLength(2)
+  })
+
+  it('reads a decimal comma in semicolon files only, where a comma cannot separate columns', () => {
+    const semi = checkRows(parseCsv('farm;village;adopted;size;soil\nF1;V1;yes;2,5;clay\n'), questions, request, ['V1'])
+    expect(semi.rows[0]!.answers.farm_size_ha).toBe(2.5)
+    const comma = checkRows(parseCsv('farm,village,adopted,size,soil\nF1,V1,yes,"2,5",clay\n'), questions, request, ['V1'])
+    expect(comma.rows[0]!.problems.map(p => p.field)).toEqual(['farm_size_ha'])
+  })
+
+  it('names questions by their labels in the rejected rows file', () => {
+    const parsed = parseCsv('farm,village,adopted,size,soil\nF1,V1,maybe,2,clay\n')
+    const { rows } = checkRows(parsed, questions, request, ['V1'])
+    const label = questions.find(q => q.key === 'adopted')!.label
+    expect(rejectedRowsCsv(parsed.columns, rows, questions)).toContain(`${label} — Choose yes or no`)
+  })
+})
+
+describe('visitDayOf', () => {
+  it.each([
+    ['2026-03-14', { day: '2026-03-14' }],
+    ['2026-02-30', { problem: expect.stringContaining('YYYY-MM-DD') }],
+    ['14/03/2026', { problem: expect.stringContaining('YYYY-MM-DD') }],
+    ['2027-01-01', { problem: 'The visit date 2027-01-01 is in the future' }]
+  ])('%s', (raw, expected) => {
+    expect(visitDayOf(raw, '2026-12-01')).toEqual(expected)
   })
 })
 

@@ -62,6 +62,8 @@ export interface CheckedRow {
   values: string[]
   farmCode: string
   villageCode: string
+  /** The visit's day (YYYY-MM-DD) from the mapped date column, or null. */
+  visitDate: string | null
   answers: Record<string, unknown>
   problems: ImportProblem[]
 }
@@ -78,13 +80,19 @@ const NUMBER = /^[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?$/
 // Read as "no answer": an empty cell, or NA as statistics files write it.
 const isMissingCell = (s: string) => s === '' || s === 'NA'
 
-function typed(q: Question, cell: string, words: { yes: Set<string>, no: Set<string> }): unknown {
+// A decimal comma (2,5) as files separated by semicolons or tabs write it where the comma is the decimal mark.
+const DECIMAL_COMMA = /^[-+]?\d+,\d+$/
+const ISO_DAY = /^(\d{4})-(\d{2})-(\d{2})$/
+
+function typed(q: Question, cell: string, words: { yes: Set<string>, no: Set<string> }, decimalComma: boolean): unknown {
   const s = cell.trim()
   if (isMissingCell(s)) return undefined
   switch (q.type) {
     case 'number':
-    case 'whole':
-      return NUMBER.test(s) ? Number(s) : s
+    case 'whole': {
+      const n = decimalComma && DECIMAL_COMMA.test(s) ? s.replace(',', '.') : s
+      return NUMBER.test(n) ? Number(n) : s
+    }
     case 'yesno': {
       const w = s.toLowerCase()
       if (words.yes.has(w)) return true
@@ -110,6 +118,7 @@ export function mappingErrors(request: ImportRequest, columns: readonly string[]
   }
   check('Farm code', request.mapping.farmCode)
   check('Village code', request.mapping.villageCode)
+  if (request.mapping.visitDate) check('Visit date', request.mapping.visitDate)
   for (const [key, col] of Object.entries(request.mapping.questions)) {
     if (!keys.has(key)) errors.push(`"${key}" is not a question of this round's questionnaire.`)
     else check(`Question ${key}`, col)
@@ -117,8 +126,18 @@ export function mappingErrors(request: ImportRequest, columns: readonly string[]
   return errors
 }
 
+/** A visit day written YYYY-MM-DD, a real date, not after `today`; otherwise the reason it is refused. */
+export function visitDayOf(raw: string, today: string): { day: string } | { problem: string } {
+  const m = ISO_DAY.exec(raw)
+  const date = m ? new Date(`${raw}T00:00:00Z`) : null
+  if (!m || Number.isNaN(date!.getTime()) || !date!.toISOString().startsWith(raw)) return { problem: `Write the visit date as YYYY-MM-DD, e.g. 2026-03-14 (found "${raw}")` }
+  if (raw > today) return { problem: `The visit date ${raw} is in the future` }
+  return { day: raw }
+}
+
 /** Maps and checks every record: farm code, village of the round, and the answers with the questionnaire's schema. */
-export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[]): CheckResult {
+export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[], today = new Date().toISOString().slice(0, 10)): CheckResult {
+  const decimalComma = parsed.delimiter !== ','
   const index = new Map(parsed.columns.map((c, i) => [c, i]))
   const columnOf = (key: string) => ownValue(request.mapping.questions, key)
   const mapped = questions.filter(q => columnOf(q.key))
@@ -144,16 +163,25 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
     const villageRaw = cell(values, request.mapping.villageCode).trim()
     if (values.length !== parsed.columns.length) {
       add('row', null, `This row has ${values.length} values; the header has ${parsed.columns.length} columns.`)
-      return { row, values, farmCode: farmRaw, villageCode: villageRaw, answers: {}, problems }
+      return { row, values, farmCode: farmRaw, villageCode: villageRaw, visitDate: null, answers: {}, problems }
     }
     const farm = farmCodeSchema.safeParse(farmRaw)
     if (!farm.success) add('farmCode', request.mapping.farmCode, farm.error.issues[0]!.message)
     const village = villages.get(villageRaw.toLowerCase())
     if (!villageRaw) add('villageCode', request.mapping.villageCode, 'Enter the village code')
     else if (!village) add('villageCode', request.mapping.villageCode, `"${villageRaw}" is not a village of this round (${villageList})`)
+    let visitDate: string | null = null
+    if (request.mapping.visitDate) {
+      const raw = cell(values, request.mapping.visitDate).trim()
+      if (!isMissingCell(raw)) {
+        const day = visitDayOf(raw, today)
+        if ('day' in day) visitDate = day.day
+        else add('visitDate', request.mapping.visitDate, day.problem)
+      }
+    }
     const answers: Record<string, unknown> = {}
     for (const q of mapped) {
-      const v = typed(q, cell(values, columnOf(q.key)!), words)
+      const v = typed(q, cell(values, columnOf(q.key)!), words, decimalComma)
       if (v !== undefined) answers[q.key] = v
     }
     const parsedAnswers = schema.safeParse(answers)
@@ -173,6 +201,7 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
       values,
       farmCode: farm.success ? farm.data : farmRaw,
       villageCode: village ?? villageRaw,
+      visitDate,
       answers: parsedAnswers.success ? parsedAnswers.data as Record<string, unknown> : answers,
       problems
     }
@@ -180,10 +209,17 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
   return { rows, mappingProblems }
 }
 
+const FIELD_NAMES: Record<string, string> = { farmCode: 'Farm code', villageCode: 'Village code', visitDate: 'Visit date', row: 'Row' }
+
+/** What a problem concerns, in words: a question by its label, never its internal key. */
+export function problemFieldName(field: string, questions: readonly Question[]): string {
+  return FIELD_NAMES[field] ?? questions.find(q => q.key === field)?.label ?? 'An answer'
+}
+
 /** The rejected rows as they were in the file, plus a reason column, as comma-separated text. */
-export function rejectedRowsCsv(columns: readonly string[], rows: readonly CheckedRow[]): string {
+export function rejectedRowsCsv(columns: readonly string[], rows: readonly CheckedRow[], questions: readonly Question[] = []): string {
   const bad = rows.filter(r => r.problems.length)
   if (!bad.length) return ''
-  const reason = (r: CheckedRow) => r.problems.map(p => `${p.field}: ${p.message}`).join('; ')
+  const reason = (r: CheckedRow) => r.problems.map(p => `${problemFieldName(p.field, questions)} — ${p.message}`).join('; ')
   return Papa.unparse({ fields: [...columns, 'reason'].map(neutraliseCsvCell), data: bad.map(r => [...r.values, reason(r)].map(neutraliseCsvCell)) }, { newline: '\n' })
 }

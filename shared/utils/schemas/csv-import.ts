@@ -23,6 +23,8 @@ export const importRequestSchema = z.object({
   mapping: z.object({
     farmCode: column.min(1, 'Choose the column with the farm code'),
     villageCode: column.min(1, 'Choose the column with the village code'),
+    /** The day of the visit (YYYY-MM-DD); without it an imported visit is dated by the import. */
+    visitDate: column.optional(),
     /** Question key → CSV column; a question left out (or mapped to '') is not imported. */
     questions: z.record(z.string().max(40).refine(k => !isReservedKey(k), 'This key is reserved'), column).default({})
   }, { error: 'Map the columns to the questions' }),
@@ -51,7 +53,7 @@ export interface ImportPreview {
   validCount: number
   rejectedCount: number
   /** The first rows as mapped: farm code, village code and typed answers. */
-  rows: Array<{ row: number, farmCode: string, villageCode: string, answers: Record<string, unknown>, valid: boolean }>
+  rows: Array<{ row: number, farmCode: string, villageCode: string, visitDate: string | null, answers: Record<string, unknown>, valid: boolean }>
   /** Mapping problems that concern every row (a required question with no column). */
   mappingProblems: string[]
   report: ImportProblem[]

@@ -11,6 +11,8 @@ export const reviewQuerySchema = z.object({
   from: z.iso.date().optional(),
   to: z.iso.date().optional(),
   flagged: z.enum(['1', '0']).optional(),
+  /** Part of a farm code, any case. */
+  farm: z.string().trim().max(64).optional(),
   sort: z.enum(REVIEW_SORTS).default('savedAt'),
   dir: z.enum(['asc', 'desc']).default('desc'),
   page: z.coerce.number().int().min(1).max(100_000).default(1),
@@ -30,3 +32,14 @@ const reviewActions = z.discriminatedUnion('action', [
 ], { error: 'Choose accept, send_back or correct' })
 export const reviewActionSchema = reviewActions
 export type ReviewAction = z.infer<typeof reviewActionSchema>
+
+/** Accept every visit of a round still to review that has no flag (within the page's filters), after confirming a count. */
+export const bulkAcceptSchema = z.object({
+  roundId: z.number().int().positive(),
+  villageId: z.number().int().positive().optional(),
+  enumeratorId: z.number().int().positive().optional(),
+  farm: z.string().trim().max(64).optional(),
+  /** The count the coordinator confirmed: refused if the list changed in between. */
+  count: z.number().int().min(1).max(100_000)
+})
+export type BulkAccept = z.infer<typeof bulkAcceptSchema>

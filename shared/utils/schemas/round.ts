@@ -5,11 +5,19 @@ import { safeText } from './safe-text'
 export const roundCreateSchema = z.object({
   name: safeText(z.string().trim().min(3, 'Give the round a name').max(160)),
   technology: safeText(z.string().trim().min(3, 'Name the technology').max(160)),
-  season: safeText(z.string().trim().min(2, 'Name the season').max(60))
+  season: safeText(z.string().trim().min(2, 'Name the season').max(60)),
+  /** Start from a copy of this earlier round's current questionnaire (the adoption question follows the new technology). */
+  copyFromRoundId: z.number().int().positive().nullable().optional()
 })
 export type RoundCreate = z.infer<typeof roundCreateSchema>
 
-export const roundStatusSchema = z.object({ status: z.enum(['open', 'closed']) })
+/** A round's status (open a draft, close an open round, reopen a closed one) and/or its target of visits per village. */
+export const roundPatchSchema = z.object({
+  status: z.enum(['open', 'closed']).optional(),
+  targetVisitsPerVillage: z.number({ error: 'Give the target as a whole number' }).int('Give the target as a whole number')
+    .min(1, 'The target is at least 1 visit').max(10_000, 'The target is at most 10,000 visits').nullable().optional()
+}).refine(b => b.status !== undefined || b.targetVisitsPerVillage !== undefined, 'Send a status or a target')
+export type RoundPatch = z.infer<typeof roundPatchSchema>
 
 export const questionnaireSaveSchema = z.object({ questions: z.array(questionSchema).min(1).max(200) })
 

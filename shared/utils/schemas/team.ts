@@ -56,10 +56,18 @@ const funderOrganisation = z.object({
     .regex(/^(?=.{3,120}$)([a-z0-9](?:[a-z0-9-]{0,61}[a-z0-9])?\.)+[a-z]{2,}$/, 'Enter a domain such as funder.example, without @')
 })
 
+/**
+ * What standard errors can be clustered by: the engine clusters by the sampled unit, the village. A list (not free
+ * text) so the setting can only name something the models can use; add a choice here when the engine learns one.
+ */
+export const CLUSTER_VARIABLES = ['village'] as const
+export const CLUSTER_VARIABLE_LABELS: Record<typeof CLUSTER_VARIABLES[number], string> = {
+  village: 'Village (the unit that was sampled)'
+}
+
 export const settingsSchema = z.object({
   name: safeText(z.string({ error: 'Enter the organisation\'s name' }).trim().min(2, 'Use at least 2 characters').max(160, 'Use at most 160 characters')),
-  defaultClusterVariable: z.string({ error: 'Enter a variable name' }).trim()
-    .regex(/^[a-z][a-z0-9_]{0,63}$/, 'Use lower-case letters, digits and _ only, starting with a letter'),
+  defaultClusterVariable: z.enum(CLUSTER_VARIABLES, { error: 'Choose what standard errors are clustered by from the list' }),
   minVisitsForFunders: z.number({ error: 'Enter a whole number' }).int('Enter a whole number').min(1, 'Use at least 1').max(1000, 'Use at most 1000'),
   funderOrganisations: z.array(funderOrganisation).max(50, 'At most 50 funder organisations')
     .refine(list => new Set(list.map(f => f.emailDomain)).size === list.length, { message: 'Each e-mail domain may appear only once' })
