@@ -9,7 +9,7 @@ export interface CoordinatorHome {
 export interface FunderHome {
   /** The funder organisation the signed-in funder belongs to (by e-mail domain), or null when it is not listed. */
   funderOrganisation: string | null
-  rounds: Array<{ roundId: number, round: string, technology: string, season: string, publishedAt: string, farmsVisited: number, villages: number, predicted: number, ciLow: number | null, ciHigh: number | null, observedRate: number, targetRate: number, villagesBelowTarget: number }>
+  rounds: Array<{ roundId: number, round: string, technology: string, season: string, publishedAt: string, farmsVisited: number, villages: number, predicted: number | null, ciLow: number | null, ciHigh: number | null, observedRate: number | null, targetRate: number, villagesBelowTarget: number }>
 }
 
 export interface AdminHome {

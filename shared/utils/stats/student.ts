@@ -63,9 +63,3 @@ export function tQuantile(df: number, alpha = 0.05): number {
   }
   return 0.5 * (lo + hi)
 }
-
-/** Upper tail P(F ≥ f) of the F distribution on (d1, d2) degrees of freedom. */
-export function fSf(f: number, d1: number, d2: number): number {
-  if (!(f > 0)) return 1
-  return incompleteBeta(d2 / (d2 + d1 * f), d2 / 2, d1 / 2)
-}

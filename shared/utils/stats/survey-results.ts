@@ -5,7 +5,8 @@
  */
 import type { Design } from './design'
 import { invertSpd } from './linalg'
-import { fSf, tQuantile, tTwoSidedP } from './student'
+import { fSf } from './distributions'
+import { tQuantile, tTwoSidedP } from './student'
 import type { SurveyCovariance } from './survey'
 import type { CoefficientRow, Estimate, SurveyResults } from './types'
 
