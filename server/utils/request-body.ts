@@ -10,8 +10,8 @@ export function hasBody(event: H3Event) {
 
 // After a 413 the rest of an upload is read and thrown away for a moment, so the client (still sending) can
 // read the answer before the connection goes: closing a socket with unread data resets it, and the answer
-// is lost (so no "Connection: close" either: Node would close at once). Memory stays flat; past these bounds
-// (counted from the moment the answer is out) the connection is cut.
+// is lost (so no "Connection: close" either: Node would close at once). Until the answer is out nothing more is
+// read; memory stays flat; past these bounds (counted from the moment the answer is out) the connection is cut.
 const DRAIN_MAX_BYTES = 8 * 1024 * 1024
 const DRAIN_MAX_MS = 2000
 
@@ -70,18 +70,19 @@ export async function readBodyWithin(event: H3Event, maxBytes: number, message: 
 function drainThenClose(event: H3Event) {
   const req = event.node.req
   const socket = req.socket
-  let drained = 0
-  const cut = () => socket.destroy()
-  let timer: ReturnType<typeof setTimeout> | undefined
+  // Until the answer is out, read nothing more (the client waits on TCP back-pressure); then drain a while.
+  req.pause()
   event.node.res.once('finish', () => {
-    timer = setTimeout(cut, DRAIN_MAX_MS)
+    let drained = 0
+    const cut = () => socket.destroy()
+    const timer = setTimeout(cut, DRAIN_MAX_MS)
     timer.unref()
+    req.on('data', (chunk: Buffer) => {
+      drained += chunk.length
+      if (drained > DRAIN_MAX_BYTES) cut()
+    })
+    req.once('end', () => clearTimeout(timer))
+    socket.once('close', () => clearTimeout(timer))
+    req.resume()
   })
-  req.on('data', (chunk: Buffer) => {
-    drained += chunk.length
-    if (drained > DRAIN_MAX_BYTES) cut()
-  })
-  req.once('end', () => clearTimeout(timer))
-  socket.once('close', () => clearTimeout(timer))
-  req.resume()
 }

@@ -1,5 +1,6 @@
 import { MODEL_CAUTIONS } from '#shared/utils/cautions'
 import type { Question } from '#shared/utils/schemas/questionnaire'
+import { ownValue } from '#shared/utils/schemas/safe-text'
 import { QuestionnaireVersion, Village, Visit } from '../db/models'
 
 /**

@@ -1,4 +1,5 @@
 import type { Question } from '#shared/utils/schemas/questionnaire'
+import { ownValue } from '#shared/utils/schemas/safe-text'
 import type { VisitFlags } from '../db/models'
 
 // Quality flags computed on the server for every stored visit. Pure functions: the sync service
