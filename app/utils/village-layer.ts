@@ -5,25 +5,29 @@ import type { MapMode, MapVillage } from '#shared/types/overview'
 
 const pct = (x: number | null | undefined) => (x === null || x === undefined ? '—' : `${(x * 100).toFixed(1)} %`)
 
-/** The hover text of a village, built as DOM nodes with textContent: village names are data, never HTML. */
-export function villageTooltip(v: MapVillage): HTMLElement {
-  const box = document.createElement('div')
-  const name = document.createElement('strong')
-  name.textContent = v.name
-  box.append(name)
-  const line = (text: string) => {
-    const row = document.createElement('div')
-    row.textContent = text
-    box.append(row)
-  }
-  if (v.suppressed) {
-    line('Too few visits to show')
-    return box
-  }
+/** The tooltip's lines as plain text; the first is the village name, shown bold. */
+export function villageTooltipLines(v: MapVillage): string[] {
+  if (v.suppressed) return [v.name, 'Too few visits to show']
   const p = v.predicted
-  line(`${v.visits} visits`)
-  line(`Observed adoption ${pct(v.observedRate)}`)
-  line(`Predicted ${pct(p?.estimate)}${p?.ciLow != null ? ` (95% CI ${pct(p.ciLow)}–${pct(p.ciHigh)})` : ''}`)
+  return [
+    v.name,
+    `${v.visits} visits`,
+    `Observed adoption ${pct(v.observedRate)}`,
+    `Predicted ${pct(p?.estimate)}${p?.ciLow != null ? ` (95% CI ${pct(p.ciLow)}–${pct(p.ciHigh)})` : ''}`
+  ]
+}
+
+/**
+ * The tooltip as DOM built from text nodes: a village name is data a coordinator typed, never markup, so it is
+ * never parsed as HTML (Leaflet would parse a string tooltip). `doc` is a parameter for the unit test only.
+ */
+export function villageTooltip(v: MapVillage, doc: Pick<Document, 'createElement'> = document): HTMLElement {
+  const box = doc.createElement('div')
+  villageTooltipLines(v).forEach((line, i) => {
+    const part = doc.createElement(i === 0 ? 'strong' : 'div')
+    part.textContent = line
+    box.appendChild(part)
+  })
   return box
 }
 

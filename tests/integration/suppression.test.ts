@@ -84,7 +84,7 @@ beforeAll(async () => {
     { name: 'One more hectare', covariate: 'farm_size_ha', shift: 1 },
     { name: 'Aimed at A', covariate: 'farm_size_ha', shift: 3, villages: [codes.A] }
   ] }))
-  await ok(coordinator.post(`/api/models/${started.id}/publish`, { note: 'Mopane results for planning' }))
+  await ok(coordinator.post(`/api/models/${started.id}/publish`, { note: 'Mopane results for planning', scenarioNames: ['One more hectare', 'Aimed at A'] }))
 })
 afterAll(closeTestDatabase)
 

@@ -34,6 +34,6 @@ describe('CSV cells', () => {
     const rows = parsed.records.map(r => ({ row: r.row, values: r.values, farmCode: '', villageCode: '', answers: {}, problems: [{ row: r.row, field: 'farmCode', column: 'farm', message: 'bad' }] }))
     const csv = rejectedRowsCsv(parsed.columns, rows)
     expect(csv.split('\n')[0]).toBe('farm,village,\'=cmd,reason')
-    expect(csv.split('\n')[1]).toBe('"\'=HYPERLINK(""x"")",KS-1,-3,farmCode: bad')
+    expect(csv.split('\n')[1]).toBe('"\'=HYPERLINK(""x"")",KS-1,-3,Farm code — bad')
   })
 })
