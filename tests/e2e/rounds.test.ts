@@ -141,7 +141,9 @@ describe('rounds that do not trap anyone', () => {
     await signIn(page, demoUser('enumerator').email, '/field')
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
     // One visit saved and synced, then sent back; one draft left on the tablet.
+    // The interview's order: consent first (that makes the draft), then the answers; "Saved" confirms.
     await page.goto(`/field/visit?round=${round.roundId}&village=${round.assignedVillageId}`)
+    await page.getByRole('checkbox', { name: /informed consent/ }).check()
     await page.waitForURL(/\/field\/visit\?id=/)
     await page.getByLabel('Farm code *').fill('CLOSED-SENT')
     await page.getByRole('button', { name: 'Record GPS position' }).click()
@@ -149,14 +151,16 @@ describe('rounds that do not trap anyone', () => {
     await page.locator('#q-farm_size_ha').fill('2')
     await page.locator('#q-household_size').fill('5')
     await page.locator('input[name="q-adopted"][value="true"]').check({ force: true })
-    await page.getByRole('checkbox', { name: /informed consent/ }).check()
     await page.getByRole('button', { name: 'Save visit' }).click()
+    await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
+    await page.getByRole('link', { name: 'Back to field work' }).click()
     await page.waitForURL(url => url.pathname === '/field')
     await page.getByRole('button', { name: 'Sync now' }).click()
     await poll(async () => (await coordinator.get<{ items: Array<{ id: string }> }>(`/api/review/visits?roundId=${round.roundId}`)).body.items.length, 20_000).toBe(1)
     const sent = (await coordinator.get<{ items: Array<{ id: string }> }>(`/api/review/visits?roundId=${round.roundId}`)).body.items[0]!
     expect((await coordinator.post(`/api/review/visits/${sent.id}`, { action: 'send_back', reason: 'Check the farm size' })).status).toBe(200)
     await page.goto(`/field/visit?round=${round.roundId}&village=${round.assignedVillageId}`)
+    await page.getByRole('checkbox', { name: /informed consent/ }).check()
     await page.waitForURL(/\/field\/visit\?id=/)
     await page.getByLabel('Farm code *').fill('CLOSED-DRAFT')
     await page.getByRole('link', { name: 'Keep as draft' }).click()
