@@ -114,7 +114,9 @@ describe('the tablet form in the order of a real interview', () => {
     await poll(async () => (await Visit.findOne({ where: { farmCode: code } }))?.lat ?? null, 20_000).toBeCloseTo(-13.0921, 6)
     await page.getByRole('link', { name: 'Back to field work' }).click()
     const row = page.getByTestId('local-visit').filter({ hasText: code })
-    await poll(() => row.getAttribute('data-state'), 20_000).toBe('synced')
+    // The server has the visit; a sync pass (as the enumerator's button starts one) brings its confirmation back.
+    await page.getByRole('button', { name: 'Sync now' }).click()
+    await poll(() => row.getAttribute('data-state'), 30_000).toBe('synced')
     await row.getByRole('link').click()
     const readOnly = page.getByTestId('visit-read-only')
     await poll(() => readOnly.innerText()).toContain('It can no longer be changed on this tablet')

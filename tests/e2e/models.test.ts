@@ -45,11 +45,13 @@ async function placedVillages(page: Page, round: number) {
  * and (mostly: a neighbour's circle may overlap a centre, the more so zoomed out) the colour the table gives it. Answers a
  * description of what is wrong, '' when all is right, so that expect.poll can wait for a redraw.
  */
-async function mapShowsVillages(page: Page, villages: PlacedVillage[], minimum: number, scope = page.locator('body'), ownShare = 0.85) {
+// `strays`: zoomed far out, circles a few pixels wide overlap and their rings blend, so a few centres may show a
+// mix; the villages must still show legend colours at `minimum` places or more.
+async function mapShowsVillages(page: Page, villages: PlacedVillage[], minimum: number, scope = page.locator('body'), ownShare = 0.85, strays = 0) {
   const [pixels, legend, table] = await Promise.all([villagePixels(page, villages, scope), legendColours(page, scope), tableColours(page, scope)])
   if (pixels.length < minimum) return `only ${pixels.length} villages inside the map`
   const outside = pixels.filter(p => !legend.includes(p.colour))
-  if (outside.length) return `not a legend colour at ${outside.map(p => `${p.name} ${p.colour}`).join(', ')}`
+  if (outside.length > strays || pixels.length - outside.length < minimum) return `not a legend colour at ${outside.map(p => `${p.name} ${p.colour}`).join(', ')}`
   const own = pixels.filter(p => table.get(p.name) === p.colour).length
   return own >= Math.ceil(ownShare * pixels.length) ? '' : `only ${own} of ${pixels.length} villages show their table colour`
 }
@@ -268,11 +270,11 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     // Zoomed in, then out three times from where it opened: whatever is inside the map still shows. Zoomed out,
     // circles (sized in pixels) overlap, so only the legend colours are required there.
     await viewPicker(page).getByText('Predicted adoption', { exact: true }).click()
-    for (const [button, minimum, ownShare] of [['Zoom in', 3, 0.85], ['Zoom out', 20, 0.85], ['Zoom out', 20, 0], ['Zoom out', 20, 0]] as const) {
+    for (const [button, minimum, ownShare, strays] of [['Zoom in', 3, 0.85, 0], ['Zoom out', 20, 0.85, 0], ['Zoom out', 20, 0, 4], ['Zoom out', 20, 0, 4]] as const) {
       const before = await page.getByTestId('adoption-map').getAttribute('data-view')
       await page.getByRole('button', { name: button }).click()
       await expect.poll(() => page.getByTestId('adoption-map').getAttribute('data-view')).not.toBe(before)
-      await expect.poll(() => mapShowsVillages(page, villages, minimum, page.locator('body'), ownShare), { timeout: 10_000 }).toBe('')
+      await expect.poll(() => mapShowsVillages(page, villages, minimum, page.locator('body'), ownShare, strays), { timeout: 10_000 }).toBe('')
     }
     await page.getByTestId('adoption-map').screenshot({ path: path.join(SCREENSHOTS, 'funder-map-zoomed-out.png') })
     await context.close()

@@ -53,7 +53,7 @@ describe('the coordinator reviews visits in the browser', () => {
     await page.getByLabel('Why do you correct this visit?').fill('Measured again with the farmer')
     await page.getByRole('button', { name: 'Save correction' }).click()
     await poll(async () => (await Visit.findByPk(fast.id))!.answers.farm_size_ha).toBe(3.1)
-    await page.getByRole('button', { name: 'Accept' }).click()
+    await page.getByTestId('review-panel').getByRole('button', { name: 'Accept', exact: true }).click()
     await poll(async () => (await Visit.findByPk(fast.id))!.reviewState).toBe('accepted')
     await poll(() => page.getByTestId('review-row').first().textContent()).toContain('Accepted')
     await page.screenshot({ path: path.join(SCREENSHOTS, 'review.png'), fullPage: true })
