@@ -7,13 +7,16 @@
 //   carries no one's cookie by accident, so it is judged by its session like any other.
 // - a body must be of a type its route takes (415): JSON routes take application/json only, which a plain
 //   HTML form cannot send. A body that passes starts streaming in here, within its limit (request-body.ts).
-export default defineEventHandler((event) => {
+// - a body for a protected route without a session cookie sealed by this server is refused (401) unread.
+export default defineEventHandler(async (event) => {
   if (event.path.startsWith('/api/')) refuseWrongMethod(event)
   if (!BODY_METHODS.has(event.method)) return
   if (isCrossSite(event)) {
     throw createError({ statusCode: 403, message: 'Requests from other sites are refused. Use Furrowcast itself.' })
   }
   if (!hasBody(event)) return
+  // Nobody's session, on a route that needs one: 401 before a byte of the body is read.
+  if (!await mayCarryBody(event)) throw createError({ statusCode: 401, message: 'Sign in to continue.' })
   const type = (getHeader(event, 'content-type') ?? '').split(';')[0]!.trim().toLowerCase()
   const { types } = bodyRuleFor(event)
   if (!types.includes(type)) {

@@ -1,5 +1,5 @@
-import { createHash } from 'node:crypto'
-import { Op, QueryTypes, Transaction } from 'sequelize'
+import { createHash, randomUUID } from 'node:crypto'
+import { Op, QueryTypes, Transaction, col, where as sqlWhere } from 'sequelize'
 import { type QuestionnaireVersionDto, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
 import { type ServerVisit, type SyncAnswer, type SyncResult, type SyncStatus, adoptedOf, visitEnvelopeSchema, visitSchemaFor, type VisitInput } from '#shared/utils/schemas/visit'
 import { fieldErrorsOf } from '#shared/utils/zod-errors'
@@ -24,9 +24,10 @@ export function deviceHashOf(visit: VisitInput): string {
   return createHash('sha256').update(canonical(content)).digest('hex')
 }
 
+/** The visit as its tablet knows it: under the device's own id. */
 export function serverCopyOf(visit: Visit): ServerVisit {
   return {
-    id: visit.id,
+    id: visit.deviceId ?? visit.id,
     roundId: visit.roundId,
     villageId: visit.villageId,
     questionnaireVersionId: visit.questionnaireVersionId,
@@ -61,7 +62,8 @@ function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string)
     reviewState: 'received' as const,
     reviewReason: null,
     flags,
-    deviceHash: hash
+    deviceHash: hash,
+    deviceId: null as string | null
   }
 }
 
@@ -170,9 +172,17 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
   }
   const valid = [...first.values()].sort((a, b) => a.input.id < b.input.id ? -1 : a.input.id > b.input.id ? 1 : 0)
   if (!valid.length) return results
-  // Existing rows, locked in primary-key order until the commit; ids not on the server lock nothing.
-  const existing = await Visit.findAll({ where: { id: valid.map(c => c.input.id) }, order: [['id', 'ASC']], transaction, lock: transaction.LOCK.UPDATE })
-  const byId = new Map(existing.map(v => [v.id, v]))
+  // This enumerator's rows with these device ids, locked in primary-key order until the commit; ids not on the
+  // server lock nothing. Only the enumerator's own space is looked at (migration 0070): other people's rows never
+  // change the answer, so nobody learns from it whether an id exists elsewhere.
+  const existing = await Visit.findAll({
+    where: { enumeratorId: actor.id, [Op.and]: [sqlWhere(col('device_key'), { [Op.in]: valid.map(c => c.input.id) })] },
+    order: [['id', 'ASC']], transaction, lock: transaction.LOCK.UPDATE
+  })
+  const byId = new Map(existing.map(v => [v.deviceId ?? v.id, v]))
+  // A new device id that another person's row holds as its server id is stored under a fresh server id.
+  const fresh = valid.filter(c => !byId.has(c.input.id)).map(c => c.input.id)
+  const taken = new Set(fresh.length ? (await Visit.findAll({ where: { id: fresh }, attributes: ['id'], transaction })).map(v => v.id) : [])
 
   const columnsFor = (c: Valid) => {
     const v = c.input
@@ -185,11 +195,9 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
   for (const c of valid) {
     const previous = byId.get(c.input.id)
     if (!previous) {
-      inserts.push(columnsFor(c))
+      const columns = columnsFor(c)
+      inserts.push(taken.has(c.input.id) ? { ...columns, id: randomUUID(), deviceId: c.input.id } : columns)
       results[c.index] = { id: c.input.id, status: 'stored', version: 1 }
-    }
-    else if (previous.enumeratorId !== actor.id || previous.organisationId !== actor.organisationId) {
-      results[c.index] = { id: c.input.id, status: 'rejected', errors: { id: 'This visit id belongs to another record' } }
     }
     else if (previous.deviceHash === c.hash) {
       results[c.index] = { id: c.input.id, status: 'duplicate', version: previous.version }
@@ -200,9 +208,9 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
     else {
       // A resubmission (after send-back, or an edit before review) replaces the device's fields; the version
       // the device edited from is part of the statement, so a row changed meanwhile is never overwritten.
-      const { id: _id, ...columns } = columnsFor(c)
+      const { id: _id, deviceId: _deviceId, ...columns } = columnsFor(c)
       const [changed] = await Visit.update({ ...columns, version: previous.version + 1 }, {
-        where: { id: c.input.id, version: previous.version, reviewState: { [Op.ne]: 'accepted' } }, transaction
+        where: { id: previous.id, version: previous.version, reviewState: { [Op.ne]: 'accepted' } }, transaction
       })
       if (changed !== 1) throw Object.assign(new Error('visit changed during the batch'), { errno: 1213 })
       results[c.index] = { id: c.input.id, status: 'stored', version: previous.version + 1 }
@@ -213,7 +221,7 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
   return results
 }
 
-const INSERT_COLUMNS = ['id', 'organisation_id', 'round_id', 'village_id', 'enumerator_id', 'questionnaire_version_id', 'farm_code',
+const INSERT_COLUMNS = ['id', 'device_id', 'organisation_id', 'round_id', 'village_id', 'enumerator_id', 'questionnaire_version_id', 'farm_code',
   'lat', 'lon', 'accuracy_m', 'manual_location_reason', 'answers', 'consent_at', 'started_at', 'saved_at', 'adopted',
   'review_state', 'review_reason', 'flags', 'device_hash', 'version', 'created_at', 'updated_at'] as const
 
@@ -224,7 +232,7 @@ const INSERT_COLUMNS = ['id', 'organisation_id', 'round_id', 'village_id', 'enum
  */
 async function insertVisits(rows: Array<ReturnType<typeof columnsOf>>, transaction: Transaction) {
   const now = new Date()
-  const values = rows.flatMap(r => [r.id, r.organisationId, r.roundId, r.villageId, r.enumeratorId, r.questionnaireVersionId, r.farmCode,
+  const values = rows.flatMap(r => [r.id, r.deviceId, r.organisationId, r.roundId, r.villageId, r.enumeratorId, r.questionnaireVersionId, r.farmCode,
     r.lat, r.lon, r.accuracyM, r.manualLocationReason, JSON.stringify(r.answers), r.consentAt, r.startedAt, r.savedAt, r.adopted,
     r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.deviceHash, 1, now, now])
   const row = `(${INSERT_COLUMNS.map(() => '?').join(', ')})`

@@ -21,8 +21,10 @@ export async function inviteUser(event: H3Event, admin: SignedInUser, input: Inv
   try {
     return await database().transaction(async (transaction) => {
       const now = new Date()
-      let user = await User.findOne({ where: { email: input.email }, transaction, lock: transaction.LOCK.UPDATE })
-      if (user && (user.organisationId !== admin.organisationId || user.passwordHash)) {
+      // Only this organisation's people are looked at: whether the address is used by another organisation is
+      // never told (the answer is the same as for a new address; its owner learns it on opening the link).
+      let user = await User.findOne({ where: { email: input.email, organisationId: admin.organisationId }, transaction, lock: transaction.LOCK.UPDATE })
+      if (user?.passwordHash) {
         throw createError({ statusCode: 409, message: 'This e-mail address already has a Furrowcast account.' })
       }
       if (user && !user.active) {
@@ -75,7 +77,7 @@ export async function inviteUser(event: H3Event, admin: SignedInUser, input: Inv
     })
   }
   catch (error) {
-    // Two admins inviting the same new address at the same moment: the second meets the unique e-mail.
+    // Two admins of one organisation inviting the same new address at once: the second meets the unique index.
     if (error instanceof UniqueConstraintError) {
       throw createError({ statusCode: 409, message: 'This e-mail address already has a Furrowcast account.' })
     }

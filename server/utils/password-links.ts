@@ -1,10 +1,11 @@
 import type { H3Event } from 'h3'
+import { Op, UniqueConstraintError } from 'sequelize'
 import type { ForgotInput, SetPasswordInput, TokenCheckInput } from '#shared/utils/schemas/team'
 import type { TokenCheckAnswer } from '#shared/types/team'
 import type { TokenPurpose } from '../db/models'
 import { Organisation, User } from '../db/models'
 import { database } from '../db/connection'
-import type { TokenProblem } from './tokens'
+import type { TokenCheck, TokenProblem } from './tokens'
 
 // The public routes behind the links in invitation and reset messages, and the "forgot password" form.
 
@@ -30,7 +31,7 @@ export async function checkLink(event: H3Event, input: TokenCheckInput): Promise
 /** Uses a link once: sets the password (and, on an invitation, the name the person prefers). */
 export async function setPasswordWithLink(event: H3Event, input: SetPasswordInput) {
   await refuseBlockedAddress(event)
-  const outcome = await database().transaction(async (transaction) => {
+  const outcome = await database().transaction(async (transaction): Promise<TokenCheck> => {
     const check = await checkToken(input.token, input.purpose, transaction)
     if (!check.ok) return check
     const problem = passwordProblem(input.password, check.user.email)
@@ -45,6 +46,11 @@ export async function setPasswordWithLink(event: H3Event, input: SetPasswordInpu
       entityId: user.id
     }, transaction)
     return check
+  }).catch((error: unknown): TokenCheck => {
+    // Another organisation's invitation to the same address was accepted at the same moment: one address holds
+    // one password (the unique index of migration 0060), so this one is refused as on a later visit of the link.
+    if (error instanceof UniqueConstraintError) return { ok: false, problem: 'address_in_use' }
+    throw error
   })
   if (!outcome.ok) return refuseLink(event, input.purpose, outcome.problem)
   return { email: outcome.user.email }
@@ -64,7 +70,7 @@ export async function requestPasswordReset(event: H3Event, input: ForgotInput) {
   // Beyond a few requests per address and window, nothing more is sent: a mailbox is not to be flooded.
   const flooded = await recentEvents('reset-email', input.email) >= config.RESET_MAX_PER_EMAIL
   await recordEvent('reset-email', input.email)
-  const user = await User.findOne({ where: { email: input.email }, include: [{ model: Organisation, as: 'organisation' }] })
+  const user = await User.findOne({ where: { email: input.email, passwordHash: { [Op.ne]: null } }, include: [{ model: Organisation, as: 'organisation' }] })
   if (user && user.active && user.passwordHash && !flooded) {
     await database().transaction(async (transaction) => {
       const { token } = await issueToken({ userId: user.id, purpose: 'reset', validMs: config.RESET_MINUTES * 60_000, createdByUserId: null }, transaction)

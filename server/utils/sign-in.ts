@@ -1,4 +1,5 @@
 import type { H3Event } from 'h3'
+import { Op } from 'sequelize'
 import type { SignInInput } from '#shared/utils/schemas/auth'
 import { Organisation, User } from '../db/models'
 import type { SignedInUser } from './access'
@@ -18,7 +19,8 @@ export async function signIn(event: H3Event, input: SignInInput) {
     })
   }
 
-  const user = await User.findOne({ where: { email: input.email }, include: [{ model: Organisation, as: 'organisation' }] }) as SignedInUser | null
+  // Only one account per address holds a password (see migration 0060); invited-only rows cannot sign in.
+  const user = await User.findOne({ where: { email: input.email, passwordHash: { [Op.ne]: null } }, include: [{ model: Organisation, as: 'organisation' }] }) as SignedInUser | null
   decoyHash ??= await hashPassword('decoy password that matches nothing')
   const passwordOk = await verifyPassword(user?.passwordHash ?? decoyHash, input.password)
   if (!user || !user.passwordHash || !passwordOk) {

@@ -1,11 +1,11 @@
 import { createHash, randomBytes, timingSafeEqual } from 'node:crypto'
-import type { Transaction } from 'sequelize'
+import { Op, type Transaction } from 'sequelize'
 import { Organisation, User, UserToken, type TokenPurpose } from '../db/models'
 
 // A link token is "<row id>.<secret>": the id finds the row, the secret's SHA-256 is compared in constant time.
 const TOKEN_SHAPE = /^(\d{1,10})\.([A-Za-z0-9_-]{43})$/
 
-export type TokenProblem = 'invalid' | 'expired' | 'used' | 'replaced' | 'inactive'
+export type TokenProblem = 'invalid' | 'expired' | 'used' | 'replaced' | 'inactive' | 'address_in_use'
 
 export type TokenCheck
   = | { ok: true, token: UserToken, user: User & { organisation: Organisation } }
@@ -57,6 +57,11 @@ export async function checkToken(raw: string, purpose: TokenPurpose, transaction
   const user = await User.findByPk(token.userId, { include: [{ model: Organisation, as: 'organisation' }], transaction }) as (User & { organisation: Organisation }) | null
   if (!user) return { ok: false, problem: 'invalid' }
   if (!user.active) return { ok: false, problem: 'inactive' }
+  // Addresses are unique per organisation, so another organisation may have invited the same address and its
+  // owner accepted there first. Only the address's owner opens this link, so saying so leaks nothing.
+  if (purpose === 'invitation' && await User.count({ where: { email: user.email, id: { [Op.ne]: user.id }, passwordHash: { [Op.ne]: null } }, transaction })) {
+    return { ok: false, problem: 'address_in_use' }
+  }
   return { ok: true, token, user }
 }
 
@@ -66,16 +71,18 @@ export const TOKEN_MESSAGES: Record<TokenPurpose, Record<TokenProblem, string>> 
     expired: 'This invitation link has expired. Ask your administrator to invite you again.',
     used: 'This invitation link has already been used. Sign in with the password you chose.',
     replaced: 'A newer invitation was sent to you. Use the link in the latest message.',
-    inactive: 'This account has been deactivated. Ask your administrator.'
+    inactive: 'This account has been deactivated. Ask your administrator.',
+    address_in_use: 'This address already signs in to Furrowcast for another organisation, and one address can hold one account. Ask the administrator who invited you to invite another address of yours.'
   },
   reset: {
     invalid: 'This reset link is not valid. Check that you opened the whole link from the message, or ask for a new one.',
     expired: 'This reset link has expired. Ask for a new one.',
     used: 'This reset link has already been used. Sign in, or ask for a new link.',
     replaced: 'A newer reset link was sent to you. Use the link in the latest message.',
-    inactive: 'This account has been deactivated. Ask your administrator.'
+    inactive: 'This account has been deactivated. Ask your administrator.',
+    address_in_use: 'This reset link is not valid. Ask for a new one.'
   }
 }
 
 /** 400 for a link that was never ours or was altered, 410 for one that was ours but is no longer usable. */
-export const TOKEN_STATUS: Record<TokenProblem, number> = { invalid: 400, expired: 410, used: 410, replaced: 410, inactive: 403 }
+export const TOKEN_STATUS: Record<TokenProblem, number> = { invalid: 400, expired: 410, used: 410, replaced: 410, inactive: 403, address_in_use: 409 }

@@ -3,10 +3,11 @@
  * servers, HAProxy), then 20 simulated tablets — each a different enumerator — sync 10,000 visits through HAProxy
  * while one Galera node and one app server are killed (SIGKILL) and later brought back.
  * Pass: 0 visits lost, 0 duplicated, every request answered 200 or a retryable 503/429, and afterwards every node
- * holds the same rows (count and CHECKSUM TABLE). Prints a summary; exits 1 on any failure.
+ * holds the same rows (count and a digest of the stored columns, tests/support/table-digest.ts). Prints a summary; exits 1 on any failure.
  */
 import { startCluster } from '../../scripts/lib/cluster-stack.mjs'
 import { queryNode } from '../../scripts/lib/galera.mjs'
+import { storedColumnsSql, tableDigestSql } from '../support/table-digest'
 
 const DEVICES = 20
 const VISITS_PER_DEVICE = 500
@@ -113,8 +114,9 @@ async function main() {
 
     // Every node the same: count and checksum of the visits table, each read after the node caught up.
     const perNode = cluster.ports.nodes.map((node: { name: string }) => {
-      const out = queryNode(node, 'SET SESSION wsrep_sync_wait = 1; SELECT COUNT(*) FROM furrowcast_cluster.visits; CHECKSUM TABLE furrowcast_cluster.visits;').split('\n')
-      return { node: node.name, rows: Number(out[0]), checksum: out[1]!.split('\t')[1] }
+      const columns = queryNode(node, `${storedColumnsSql('furrowcast_cluster')}`).split('\n').find(line => line.startsWith('visits\t'))!.split('\t')[1]!
+      const out = queryNode(node, `SET SESSION wsrep_sync_wait = 1; ${tableDigestSql('furrowcast_cluster', 'visits', columns)};`).split('\t')
+      return { node: node.name, rows: Number(out[0]), checksum: out[1]!.trim() }
     })
     if (new Set(perNode.map(n => `${n.rows}:${n.checksum}`)).size !== 1) problems.push(`nodes differ: ${JSON.stringify(perNode)}`)
 

@@ -10,6 +10,7 @@ import { User } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { type TestRound, makeRound, makeVisit } from '../support/field'
 import { type Client, baseUrl, demoUser, freshClient } from '../support/server'
+import { storedColumnsSql, tableDigestSql } from '../support/table-digest'
 
 // Backs up the test server's own MariaDB (full, then incremental) and its photo bucket with the real commands,
 // restores both into a fresh MariaDB data folder and a fresh bucket, and compares them table by table and photo by photo.
@@ -45,19 +46,17 @@ async function npmScript(script: string, ...args: string[]) {
   }
 }
 
-/** Row count and CHECKSUM TABLE of every table of the test database, through the server behind `socket`. */
+/** Row count and digest of the stored columns of every table of the test database, through the server behind `socket`. */
 function fingerprint(socket: string): Record<string, string> {
   const sql = (statement: string) => {
     const answer = spawnSync('mariadb', ['--no-defaults', `--socket=${socket}`, '-uroot', '--batch', '--skip-column-names', '-e', statement], { encoding: 'utf8' })
     if (answer.status !== 0) throw new Error(answer.stderr)
     return answer.stdout.trim().split('\n').filter(Boolean).map(line => line.split('\t'))
   }
-  const tables = sql(`SELECT table_name FROM information_schema.tables WHERE table_schema = '${DATABASE}' ORDER BY table_name`).map(r => r[0]!)
   const result: Record<string, string> = {}
-  for (const table of tables) {
-    const [[, checksum]] = sql(`CHECKSUM TABLE \`${DATABASE}\`.\`${table}\``) as [[string, string]]
-    const [[count]] = sql(`SELECT COUNT(*) FROM \`${DATABASE}\`.\`${table}\``) as [[string]]
-    result[table] = `${count} rows, checksum ${checksum}`
+  for (const [table, columns] of sql(storedColumnsSql(DATABASE)) as Array<[string, string]>) {
+    const [[count, digest]] = sql(tableDigestSql(DATABASE, table, columns)) as [[string, string]]
+    result[table] = `${count} rows, digest ${digest}`
   }
   return result
 }

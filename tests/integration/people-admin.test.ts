@@ -3,7 +3,7 @@ import { AuditEntry, DEFAULT_ORGANISATION_SETTINGS, Organisation, User } from '.
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { uniqueEmail } from '../support/outbox'
 import { type Client, DEMO, demoUser, freshClient } from '../support/server'
-import { newPerson } from '../support/team'
+import { GOOD_PASSWORD, inviteThroughMail, newPerson } from '../support/team'
 
 // A second, invented organisation with a single admin, so the last-admin rule can be tried without touching
 // the demo organisation that other tests sign in to.
@@ -117,5 +117,43 @@ describe('the audit log', () => {
     expect(past.body.items).toEqual([])
     expect((await otherAdmin.get('/api/audit?from=2026-02-31')).status).toBe(400)
     expect((await otherAdmin.get('/api/audit?to=yesterday')).status).toBe(400)
+  })
+})
+
+describe('an address another organisation uses', () => {
+  const answerShape = (body: Record<string, unknown>) => Object.keys(body).sort().join(',')
+
+  it('is invited with the same answer as a new address, and its owner is told only on opening the link', async () => {
+    const taken = await inviteThroughMail(otherAdmin, { email: demoUser('funder').email, role: 'enumerator' })
+    const fresh = await otherAdmin.post<Record<string, unknown>>('/api/people/invitations', { email: uniqueEmail('tamarind-new'), role: 'enumerator' })
+    const again = await otherAdmin.post<Record<string, unknown>>('/api/people/invitations', { email: demoUser('coordinator').email, role: 'enumerator' })
+    expect(fresh.status).toBe(201)
+    expect(again.status).toBe(201)
+    expect(answerShape(again.body)).toBe(answerShape(fresh.body))
+    expect(again.body.reinvited).toBe(false)
+
+    // The owner of the address opens the link: told plainly, nothing is changed.
+    const opened = await freshClient().post('/api/auth/link', { token: taken.token, purpose: 'invitation' })
+    expect(opened.status).toBe(409)
+    expect(opened.body.message).toMatch(/already signs in to Furrowcast for another organisation/)
+    const used = await freshClient().post('/api/auth/password', { token: taken.token, purpose: 'invitation', password: GOOD_PASSWORD })
+    expect(used.status).toBe(409)
+    // Their own account still signs in, to their own organisation.
+    const owner = freshClient()
+    await owner.signIn(demoUser('funder').email)
+    expect((await owner.get<{ role: string }>('/api/me')).body.role).toBe('funder')
+  })
+
+  it('holds one password: of two organisations inviting one new address, the first link used wins', async () => {
+    const email = uniqueEmail('two-invitations')
+    const first = await inviteThroughMail(otherAdmin, { email, role: 'enumerator' })
+    const second = await inviteThroughMail(demoAdmin, { email, role: 'coordinator' })
+    expect((await freshClient().post('/api/auth/password', { token: second.token, purpose: 'invitation', password: GOOD_PASSWORD })).status).toBe(200)
+    const late = await freshClient().post('/api/auth/password', { token: first.token, purpose: 'invitation', password: GOOD_PASSWORD })
+    expect(late.status).toBe(409)
+    expect(await User.count({ where: { email } })).toBe(2)
+    const client = freshClient()
+    await client.signIn(email, GOOD_PASSWORD)
+    expect((await client.get<{ role: string }>('/api/me')).body.role).toBe('coordinator')
   })
 })

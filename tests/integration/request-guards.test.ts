@@ -128,6 +128,21 @@ describe('body limits', () => {
     expect((await fetch(`${baseUrl()}/api/health`)).status).toBe(200)
   })
 
+  it.each([
+    ['no cookie', {}],
+    ['a forged cookie', { cookie: 'nuxt-session=Fe26.2**forged**value' }]
+  ])('a 50 MB body to a protected route with %s gets 401 before its body is read, and server memory barely moves', async (_label, headers) => {
+    const before = serverRss()
+    const answer = await chunkedFlood('/api/sync/visits', 50, headers)
+    const after = serverRss()
+    // 401, not the sync route's 413 at 4 MB: the body was not read at all.
+    expect(answer.status).toBe(401)
+    expect(JSON.parse(answer.text).message).toBe('Sign in to continue.')
+    expect(answer.sentWhenAnswered).toBeLessThan(50 * 1024 * 1024)
+    expect(answer.answeredAt - answer.started).toBeLessThan(5000)
+    expect(after - before).toBeLessThan(24 * 1024 * 1024)
+  })
+
   it('a declared length over the limit is refused before a byte is read', async () => {
     const answer = await new Promise<number>((resolve, reject) => {
       const req = request(`${baseUrl()}/api/auth/forgot`, { method: 'POST', headers: { 'content-type': 'application/json', 'content-length': 300 * 1024 * 1024, 'x-forwarded-for': '10.251.0.8' } }, (res) => {

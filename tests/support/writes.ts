@@ -1,5 +1,6 @@
 import { QueryTypes } from 'sequelize'
 import { testDatabase } from './database'
+import { storedColumnsSql, tableDigestSql } from './table-digest'
 
 // "Nothing was written": the row count of every table, plus a checksum of the content of the tables a refused
 // request could change in place (settings, questionnaires, visits). Tables that count requests by design (sign-in
@@ -15,10 +16,13 @@ export async function dataFingerprint(): Promise<Record<string, string>> {
     { type: QueryTypes.SELECT })).map(t => t.name).filter(t => !NOT_COMPARED.test(t))
   const counts = await db.query<Record<string, number>>(
     `SELECT ${tables.map(t => `(SELECT COUNT(*) FROM \`${t}\`) AS \`${t}\``).join(', ')}`, { type: QueryTypes.SELECT })
-  const checked = tables.filter(t => !COUNT_ONLY.test(t))
-  const sums = await db.query<{ Table: string, Checksum: string | number }>(`CHECKSUM TABLE ${checked.map(t => `\`${t}\``).join(', ')}`, { type: QueryTypes.SELECT })
+  const schema = (await db.query<{ name: string }>('SELECT DATABASE() AS name', { type: QueryTypes.SELECT }))[0]!.name
+  const columns = new Map((await db.query<{ name: string, columns: string }>(storedColumnsSql(schema), { type: QueryTypes.SELECT })).map(r => [r.name, r.columns]))
   const out: Record<string, string> = {}
   for (const t of tables) out[t] = `rows ${counts[0]![t]}`
-  for (const s of sums) out[s.Table.split('.').pop()!] += ` checksum ${s.Checksum}`
+  for (const t of tables.filter(t => !COUNT_ONLY.test(t))) {
+    const [row] = await db.query<{ digest: string | number }>(tableDigestSql(schema, t, columns.get(t)!), { type: QueryTypes.SELECT })
+    out[t] += ` digest ${row!.digest}`
+  }
   return out
 }

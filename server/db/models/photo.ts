@@ -4,6 +4,8 @@ import { DataTypes, Model, type CreationOptional, type InferAttributes, type Inf
 export class Photo extends Model<InferAttributes<Photo>, InferCreationAttributes<Photo>> {
   declare id: string
   declare visitId: string
+  /** The tablet's own id for this photo when the server had to store it under another (migration 0070); else null. */
+  declare deviceId: CreationOptional<string | null>
   declare objectKey: string
   declare sizeBytes: number
   declare contentType: string
@@ -16,6 +18,7 @@ export class Photo extends Model<InferAttributes<Photo>, InferCreationAttributes
     Photo.init({
       id: { type: DataTypes.CHAR(36), primaryKey: true },
       visitId: { type: DataTypes.CHAR(36), allowNull: false },
+      deviceId: { type: DataTypes.STRING(36), allowNull: true },
       objectKey: { type: DataTypes.STRING(200), allowNull: false },
       sizeBytes: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
       contentType: { type: DataTypes.STRING(40), allowNull: false },

@@ -22,7 +22,8 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   static initModel(sequelize: Sequelize) {
     User.init({
       id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      email: { type: DataTypes.STRING(254), allowNull: false, unique: true },
+      // Unique per organisation; at most one account per address holds a password (migration 0060).
+      email: { type: DataTypes.STRING(254), allowNull: false },
       name: { type: DataTypes.STRING(160), allowNull: false },
       role: { type: DataTypes.ENUM(...ROLES), allowNull: false },
       passwordHash: { type: DataTypes.STRING(255), allowNull: true },

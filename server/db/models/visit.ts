@@ -35,6 +35,8 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
   declare reviewReason: string | null
   declare flags: VisitFlags
   declare deviceHash: string
+  /** The tablet's own id for this visit when the server had to store it under another (migration 0070); else null. */
+  declare deviceId: CreationOptional<string | null>
   declare version: CreationOptional<number>
   /** 'import' for past survey data loaded from a CSV file (then importId names the import). */
   declare source: CreationOptional<VisitSource>
@@ -64,6 +66,7 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
       reviewReason: { type: DataTypes.STRING(500), allowNull: true },
       flags: { type: DataTypes.JSON, allowNull: false },
       deviceHash: { type: DataTypes.CHAR(64), allowNull: false },
+      deviceId: { type: DataTypes.STRING(36), allowNull: true },
       version: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 1 },
       source: { type: DataTypes.ENUM(...VISIT_SOURCES), allowNull: false, defaultValue: 'device' },
       importId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
