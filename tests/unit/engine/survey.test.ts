@@ -160,6 +160,9 @@ describe('survey design in the results', () => {
     expect((row.ciHigh! - row.estimate) / row.se!).toBeGreaterThan(1.97)
     expect(s.wald.numDf).toBe(c.design.k - 1)
     expect(s.wald.p).toBeLessThan(0.01)
+    // The fit summary's Wald test is the same design test, on the design's degrees of freedom.
+    expect(c.results.fit.wald!.df2).toBe(s.df)
+    expect(relErr(c.results.fit.wald!.statistic, s.wald.statistic)).toBeLessThan(1e-12)
     expect(s.note).toMatch(/not valid/)
     expect(c.results.covariance.type).toBe('survey')
   })
