@@ -288,6 +288,12 @@ function report(res: ModelResults, file: string): string {
   if (f.wald) out.push(`  Wald test that all slopes are 0: ${f.wald.kind === 'F' ? `F ${fmt(f.wald.statistic, 2)} on (${f.wald.df}, ${f.wald.df2}) df` : `χ² ${fmt(f.wald.statistic, 2)} on ${f.wald.df} df`}, p ${pfmt(f.wald.p)}`)
   const c = res.classification
   out.push(`  at cut-off ${c.cutoff}: ${fmt(100 * c.shareCorrect, 1)}% classified correctly (sensitivity ${c.sensitivity === null ? '—' : fmt(100 * c.sensitivity, 1)}%, specificity ${c.specificity === null ? '—' : fmt(100 * c.specificity, 1)}%)`)
+  if (res.designGof) {
+    const g = res.designGof
+    out.push(g.statistic !== null
+      ? `  Archer–Lemeshow (weighted, design-adjusted) over ${g.groups.length} groups: F ${fmt(g.statistic, 2)} on (${g.numDf}, ${g.denDf}) df, p ${pfmt(g.p!)}`
+      : `  Archer–Lemeshow (weighted, design-adjusted): ${g.reading}`)
+  }
   if (res.hosmerLemeshow) out.push(`  Hosmer–Lemeshow over ${res.hosmerLemeshow.groups.length} groups: ${fmt(res.hosmerLemeshow.statistic, 2)} on ${res.hosmerLemeshow.df} df, p ${pfmt(res.hosmerLemeshow.p)}`)
   out.push('')
   out.push(...modelSections(res))

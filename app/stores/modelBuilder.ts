@@ -11,12 +11,18 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
   const villages = ref<'cluster' | 'random-intercept' | 'survey'>('cluster')
   // Only the sampling plan uses weights; the question is picked when that plan is chosen.
   const weights = ref<string>('')
+  // Checks run with the fit: the link test, and the characteristics for the test of an uneven spread.
+  const linkTest = ref(false)
+  const hetero = ref<string[]>([])
 
   function toggle(key: string, on: boolean) {
     covariates.value = on
       ? [...covariates.value.filter(c => c.key !== key), { key }]
       : covariates.value.filter(c => c.key !== key)
-    if (!on) interactions.value = interactions.value.filter(([a, b]) => a !== key && b !== key)
+    if (!on) {
+      interactions.value = interactions.value.filter(([a, b]) => a !== key && b !== key)
+      hetero.value = hetero.value.filter(k => k !== key)
+    }
   }
 
   function choice(key: string) {
@@ -31,14 +37,16 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
     roundId.value = round
     covariates.value = []
     interactions.value = []
+    hetero.value = []
   }
 
   const request = computed<ModelRequestInput | null>(() => roundId.value === null
     ? null
     : {
         roundId: roundId.value, covariates: covariates.value, interactions: interactions.value, link: link.value, se: se.value, margins: margins.value,
-        villages: villages.value, ...(villages.value === 'survey' && weights.value ? { weights: weights.value } : {})
+        villages: villages.value, ...(villages.value === 'survey' && weights.value ? { weights: weights.value } : {}),
+        checks: { linkTest: linkTest.value, hetero: link.value === 'probit' ? hetero.value : [] }
       })
 
-  return { roundId, covariates, interactions, link, se, margins, villages, weights, toggle, choice, update, reset, request }
+  return { roundId, covariates, interactions, link, se, margins, villages, weights, linkTest, hetero, toggle, choice, update, reset, request }
 })

@@ -116,7 +116,8 @@ export function runSummary(run: ModelRun) {
     roundId: run.roundId,
     status: run.status,
     link: run.spec.link ?? 'probit',
-    se: run.spec.se ?? 'conventional',
+    // The village models have no `se` choice: name the treatment instead of a misleading 'conventional'.
+    se: run.spec.villageTreatment === 'survey' || run.spec.villageTreatment === 'random-intercept' ? run.spec.villageTreatment : run.spec.se ?? 'conventional',
     equation: equationText(run.spec),
     covariates: run.spec.covariates.map(c => c.label ?? c.name),
     rowCount: run.rowCount,

@@ -138,7 +138,7 @@ describe('fitting a model of the demo round', () => {
     const zip = await fetch(`${baseUrl()}/api/models/${run.id}/export?format=zip`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
     expect(zip.headers.get('content-type')).toBe('application/zip')
     const files = unzipSync(new Uint8Array(await zip.arrayBuffer()))
-    expect(Object.keys(files).sort()).toEqual(['README.txt', 'coefficients.csv', 'effects.csv', 'fit.csv', 'villages.csv'])
+    expect(Object.keys(files).sort()).toEqual(['README.txt', 'coefficients.csv', 'effects.csv', 'fit.csv', 'scenarios.csv', 'villages.csv'])
     expect(strFromU8(files['README.txt']!)).toMatch(/not causal effects/)
     expect(strFromU8(files['effects.csv']!).split('\n')[0]).toMatch(/^characteristic,/)
     const json = await coordinator.get<{ cautions: string[], results: unknown }>(`/api/models/${run.id}/export?format=json`)

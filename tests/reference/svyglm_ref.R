@@ -4,6 +4,8 @@
 # psu (or null: each row its own PSU), strata (or null), fpc (or null)}.
 # Output: coefficients, linearisation SEs and the design degrees of freedom.
 suppressPackageStartupMessages({ library(survey); library(jsonlite) })
+# A stratum with one PSU: its total about the grand mean (what the engine does, with a warning).
+options(survey.lonely.psu = "adjust")
 args <- commandArgs(trailingOnly = TRUE)
 cases <- fromJSON(args[1], simplifyVector = FALSE)
 out <- lapply(cases, function(cs) {

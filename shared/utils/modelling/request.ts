@@ -50,6 +50,13 @@ export const VILLAGE_LABELS: Record<typeof VILLAGE_CHOICES[number], { label: str
 /** Fewer villages than this make village-level statistics unreliable; the builder warns (common practice). */
 export const FEW_VILLAGES = 20
 
+/** Checks run with the fit: the link test, and the heteroskedasticity test against these characteristics. */
+export const checksChoiceSchema = z.object({
+  linkTest: z.boolean().default(false),
+  /** Numbers or yes/no questions of the model that may change the spread of the unobserved part (probit only). */
+  hetero: z.array(key).max(5).default([])
+})
+
 /** What a coordinator chooses in the model builder; the server turns it into an engine specification. */
 export const modelRequestSchema = z.object({
   roundId: z.coerce.number().int().positive(),
@@ -59,7 +66,8 @@ export const modelRequestSchema = z.object({
   se: z.enum(SE_CHOICES).default('cluster'),
   weights: key.optional(),
   margins: z.enum(['ame', 'mem']).default('ame'),
-  villages: z.enum(VILLAGE_CHOICES).default('cluster')
+  villages: z.enum(VILLAGE_CHOICES).default('cluster'),
+  checks: checksChoiceSchema.default({ linkTest: false, hetero: [] })
 }).superRefine((request, ctx) => {
   if (request.villages === 'survey' && !request.weights) ctx.addIssue({ code: 'custom', path: ['weights'], message: 'The sampling plan needs the question that holds the sampling weights' })
   if (request.villages === 'random-intercept' && request.link !== 'probit' && request.link !== 'logit') {
@@ -67,6 +75,12 @@ export const modelRequestSchema = z.object({
   }
   const keys = request.covariates.map(c => c.key)
   if (new Set(keys).size !== keys.length) ctx.addIssue({ code: 'custom', path: ['covariates'], message: 'A characteristic is chosen twice' })
+  if (request.checks.hetero.length && request.link !== 'probit') {
+    ctx.addIssue({ code: 'custom', path: ['checks', 'hetero'], message: 'The test of an uneven spread is available with the probit only' })
+  }
+  request.checks.hetero.forEach((k, i) => {
+    if (!keys.includes(k)) ctx.addIssue({ code: 'custom', path: ['checks', 'hetero', i], message: 'The test of an uneven spread uses characteristics that are in the model' })
+  })
   request.interactions.forEach(([a, b], i) => {
     if (a === b) ctx.addIssue({ code: 'custom', path: ['interactions', i], message: 'An interaction needs two different characteristics' })
     if (!keys.includes(a) || !keys.includes(b)) ctx.addIssue({ code: 'custom', path: ['interactions', i], message: 'Both parts of an interaction must be in the model' })

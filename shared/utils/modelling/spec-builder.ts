@@ -39,7 +39,15 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
   if (request.weights && !questions.some(q => q.key === request.weights && (q.type === 'number' || q.type === 'whole'))) {
     throw new ModelRequestError('weights', 'Sampling weights must come from a number question')
   }
+  // The heteroskedasticity test names model terms: a number's term carries its transform.
+  const hetero = request.checks?.hetero.map((k) => {
+    const c = covariates.find(x => x.name === k)!
+    if (c.type === 'categorical') throw new ModelRequestError('checks.hetero', `${c.label}: the test of an uneven spread takes numbers and yes/no questions only`)
+    return c.transform === 'log' ? `log(${k})` : c.transform === 'centre' ? `${k}_c` : k
+  }) ?? []
+  const checks = request.checks?.linkTest || hetero.length ? { checks: { linkTest: Boolean(request.checks?.linkTest), hetero } } : {}
   return {
+    ...checks,
     outcome: outcomeKey,
     outcomeLabel: outcome?.label ?? 'adopted',
     covariates,

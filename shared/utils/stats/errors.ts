@@ -33,6 +33,11 @@ export type EngineWarningCode
     | 'few_clusters'
     | 'weights_not_likelihood'
     | 'small_hl_groups'
+    | 'few_villages'
+    | 'sigma_on_boundary'
+    | 'quadrature_unstable'
+    | 'few_psus'
+    | 'singleton_stratum'
 
 /** A problem the fit survived; part of every result object. */
 export interface EngineWarning {

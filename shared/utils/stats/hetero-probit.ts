@@ -145,9 +145,10 @@ export function fitHeteroProbit(design: Design, varianceTerms: string[], maxIter
   const row = (j: number, term: string, label: string): CoefficientRow => ({ term, label, ...makeEstimate(theta[j]!, V ? V[j * P + j]! : null) })
   const stat = Math.max(0, 2 * (cur.loglik - probit.loglik))
   const p = chiSquareSf(stat, m)
+  const named = varianceTerms.map(name => design.plan.terms.find(t => t.name === name)!.label).join(', ')
   const reading = p < 0.05
-    ? `The error variance changes with ${varianceTerms.join(', ')} (p = ${p.toPrecision(2)}): the homoskedastic probit's coefficients and effects may be misleading.`
-    : `No evidence that the error variance changes with ${varianceTerms.join(', ')} (p = ${p.toPrecision(2)}).`
+    ? `The error variance changes with ${named} (p = ${p.toPrecision(2)}): the homoskedastic probit's coefficients and effects may be misleading.`
+    : `No evidence that the error variance changes with ${named} (p = ${p.toPrecision(2)}).`
   return {
     varianceTerms,
     coefficients: design.plan.terms.map((t, j) => row(j, t.name, t.label)),

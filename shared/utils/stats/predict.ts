@@ -113,15 +113,18 @@ function describe(spec: ScenarioSpec, label: string, type: string): string {
   return spec.villages?.length ? `${what} in ${spec.villages.length} village(s)` : `${what} for every farm`
 }
 
-/**
- * Counterfactual: change in mean predicted adoption, overall (over all rows used) and by
- * village, when a covariate is set to a value or (numeric only) shifted by an amount for
- * everyone or only for the listed villages.
- */
-export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: ScenarioSpec): ScenarioResult {
-  const { n, k, X, w, plan } = design
-  const link: Link = getLink(fit.link)
-  const b = fit.coef
+/** The design rows with a scenario applied: the changed matrix, which rows changed, and the words. */
+export interface ScenarioMatrix {
+  /** Row-major n×k, equal to the design's X on rows the scenario leaves alone. */
+  Xs: Float64Array
+  changed: Uint8Array
+  rowsChanged: number
+  description: string
+}
+
+/** Applies a scenario (set a value or shift it, for every farm or some villages) to the design rows. */
+export function scenarioMatrix(design: Design, spec: ScenarioSpec): ScenarioMatrix {
+  const { n, k, X, plan } = design
   const ci = plan.covariates.findIndex(c => c.name === spec.covariate)
   if (ci < 0) throw new EngineInputError('unknown_variable', `scenario '${spec.name}': '${spec.covariate}' is not a covariate of the model`, [spec.covariate])
   const c = plan.covariates[ci]!
@@ -153,7 +156,6 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
     }
   }
   let inSubset: Uint8Array | null = null
-  const cl = design.cluster
   if (spec.villages?.length) {
     const cls = requireClusters(design)
     const idx = new Map(design.clusterLabels.map((l, g) => [l, g]))
@@ -166,6 +168,37 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
     inSubset = new Uint8Array(n)
     for (let i = 0; i < n; i++) inSubset[i] = chosen[cls[i]!]!
   }
+  const Xs = Float64Array.from(X)
+  const changed = new Uint8Array(n)
+  let rowsChanged = 0
+  const prof = emptyProfile(plan)
+  const xs = new Float64Array(k)
+  for (let i = 0; i < n; i++) {
+    if (inSubset && !inSubset[i]) continue
+    const off = i * k
+    changed[i] = 1
+    rowsChanged++
+    readProfile(plan, X, off, prof)
+    if (setSlot) prof[ci]!.set(setSlot)
+    else prof[ci]![0] = transformValue(c, untransformValue(c, prof[ci]![0]!) + spec.shift!, design.rowIndex[i]!)
+    for (let j = 0; j < k; j++) xs[j] = X[off + j]!
+    fillRow(plan, prof, xs)
+    Xs.set(xs, off)
+  }
+  return { Xs, changed, rowsChanged, description: describe(spec, c.label, c.type) }
+}
+
+/**
+ * Counterfactual: change in mean predicted adoption, overall (over all rows used) and by
+ * village, when a covariate is set to a value or (numeric only) shifted by an amount for
+ * everyone or only for the listed villages.
+ */
+export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: ScenarioSpec): ScenarioResult {
+  const { n, k, X, w } = design
+  const link: Link = getLink(fit.link)
+  const b = fit.coef
+  const { Xs, changed: isChanged, rowsChanged, description } = scenarioMatrix(design, spec)
+  const cl = design.cluster
   const G = cl ? design.clusterLabels.length : 0
   const acc = (len: number): Float64Array => new Float64Array(len)
   const gW = acc(G)
@@ -176,9 +209,6 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
   let W = 0
   let base = 0
   let scen = 0
-  let changed = 0
-  const prof = emptyProfile(plan)
-  const xs = new Float64Array(k)
   for (let i = 0; i < n; i++) {
     const off = i * k
     const wi = w ? w[i]! : 1
@@ -187,20 +217,14 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
     const p0 = link.cdf(eta)
     let p1 = p0
     const g = cl ? cl[i]! : -1
-    if (!inSubset || inSubset[i]) {
-      changed++
-      readProfile(plan, X, off, prof)
-      if (setSlot) prof[ci]!.set(setSlot)
-      else prof[ci]![0] = transformValue(c, untransformValue(c, prof[ci]![0]!) + spec.shift!, design.rowIndex[i]!)
-      for (let j = 0; j < k; j++) xs[j] = X[off + j]!
-      fillRow(plan, prof, xs)
+    if (isChanged[i]) {
       let es = 0
-      for (let j = 0; j < k; j++) es += xs[j]! * b[j]!
+      for (let j = 0; j < k; j++) es += Xs[off + j]! * b[j]!
       p1 = link.cdf(es)
       const f1 = wi * link.pdf(es)
       const f0 = wi * link.pdf(eta)
       for (let j = 0; j < k; j++) {
-        const d = f1 * xs[j]! - f0 * X[off + j]!
+        const d = f1 * Xs[off + j]! - f0 * X[off + j]!
         J[j]! += d
         if (g >= 0) gJ[g * k + j]! += d
       }
@@ -226,5 +250,5 @@ export function scenario(design: Design, fit: FitResult, cov: Covariance, spec: 
     const jg = gJ.subarray(g * k, (g + 1) * k).map(v => v / gW[g]!)
     villages.push({ village: design.clusterLabels[g]!, ...est((gScen[g]! - gBase[g]!) / gW[g]!, jg, gBase[g]! / gW[g]!, gScen[g]! / gW[g]!) })
   }
-  return { name: spec.name, covariate: spec.covariate, description: describe(spec, c.label, c.type), rowsChanged: changed, overall, villages }
+  return { name: spec.name, covariate: spec.covariate, description, rowsChanged, overall, villages }
 }

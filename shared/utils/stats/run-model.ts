@@ -18,7 +18,8 @@ import { linkTest } from './link-test'
 import { transitionTable, withFarmMeans, withRoundEffects } from './rounds'
 import { runRandomIntercept } from './run-random-intercept'
 import { coefficientTable, finiteOrNull, fitStatistics, waldAllSlopes } from './summary'
-import { readSurveyColumns, surveyCovariance, type SurveyCovariance } from './survey'
+import { psuLayout, readSurveyColumns, surveyCovariance, type SurveyCovariance } from './survey'
+import { archerLemeshow } from './design-gof'
 import { surveyCoefficientTable, surveySummary } from './survey-results'
 import type { ChecksResults, CovarianceSummary, ModelResults, ModelSpec, PredictedHistogram, SurveyResults, VillageTreatment } from './types'
 import type { DataInput } from './values'
@@ -109,8 +110,9 @@ function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment
   let survey: SurveyResults | null = null
   const seType = treatment === 'survey' ? 'survey' : spec.se ?? (spec.cluster ? 'cluster' : 'conventional')
   let cov: Covariance
+  const surveyCols = design.w ? readSurveyColumns(data, design, treatment === 'survey' ? spec.strata : undefined, treatment === 'survey' ? spec.fpc : undefined) : null
   if (treatment === 'survey') {
-    surveyCov = surveyCovariance(design, fit, readSurveyColumns(data, design, spec.strata, spec.fpc))
+    surveyCov = surveyCovariance(design, fit, surveyCols!)
     survey = surveySummary(design, fit.coef, surveyCov, { strata: spec.strata ?? null, psu: spec.cluster ?? null, fpc: spec.fpc ?? null })
     cov = surveyCov
   }
@@ -130,6 +132,8 @@ function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment
   const roc = rocCurve(p, design.y, design.w, spec.rocPoints ?? 101, order)
   // With sampling weights the Hosmer–Lemeshow statistic scales with the weights: not shown (see FitStatistics).
   const hl = design.w ? null : hosmerLemeshow(p, design.y, design.w, spec.hlGroups ?? 10, order)
+  // In its place the design-adjusted test, with the villages (or each farm) as PSUs outside the survey design.
+  const designGof = surveyCols ? archerLemeshow(design, p, psuLayout(design, surveyCols), spec.hlGroups ?? 10) : null
   const t3 = now()
   const marginsKind = spec.margins ?? 'ame'
   const margins = marginsKind === 'none' ? null : marginalEffects(design, fit, cov, { kind: marginsKind, at: spec.marginsAt, parallel })
@@ -143,7 +147,15 @@ function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment
 
   const warnings: EngineWarning[] = [...design.warnings, ...fit.warnings]
   if (surveyCov && surveyCov.df < 30) {
-    warnings.push({ code: 'few_clusters', message: `only ${surveyCov.df} design degrees of freedom (PSUs − strata): intervals are wide and tests of many terms are unreliable` })
+    warnings.push({ code: 'few_psus', message: `only ${surveyCov.psuCount} sampled villages (primary sampling units) in ${surveyCov.strataCount} ${surveyCov.strataCount === 1 ? 'stratum' : 'strata'}, so ${surveyCov.df} design degrees of freedom: intervals are wide and tests of many terms are unreliable (30 or more are advised)` })
+  }
+  if (surveyCov?.singletonStrata.length) {
+    const list = surveyCov.singletonStrata
+    warnings.push({
+      code: 'singleton_stratum',
+      message: `${list.length === 1 ? `stratum ${list[0]} has` : `strata ${list.join(', ')} have`} only one sampled village: the variation within ${list.length === 1 ? 'it' : 'them'} cannot be measured, so ${list.length === 1 ? 'its village is' : 'their villages are'} compared with the whole sample instead; merging such a stratum with a neighbouring one is safer`,
+      variables: list
+    })
   }
   if (design.w && seType === 'conventional') {
     warnings.push({
@@ -173,6 +185,7 @@ function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment
     classification,
     roc,
     hosmerLemeshow: hl,
+    designGof,
     predictedHistogram: predictedHistogram(p, design.y),
     margins,
     otherMargins,

@@ -12,9 +12,15 @@ import { fitRandomIntercept } from './random-intercept'
 import {
   populationAveragedMean, populationAveragedProbabilities, randomInterceptMargins, randomInterceptSummary, randomInterceptVillages
 } from './random-intercept-results'
+import { randomInterceptScenario } from './random-intercept-scenarios'
 import { finiteOrNull, fitStatistics, makeEstimate } from './summary'
 import type { CoefficientRow, ModelResults, ModelSpec, PredictedHistogram } from './types'
 import type { DataInput } from './values'
+
+/** Fewer villages than this leave σ poorly estimated (common practice). */
+const FEW_VILLAGES_RI = 20
+/** σ̂ below this (index scale) counts as on the boundary: the optimum is σ = 0 up to the Newton tolerance. */
+const SIGMA_BOUNDARY = 1e-4
 
 function now(): number {
   return typeof performance !== 'undefined' ? performance.now() : Date.now()
@@ -64,16 +70,17 @@ export function runRandomIntercept(
   const { villages, effects } = randomInterceptVillages(design, fit)
   const overall = populationAveragedMean(design, fit)
   const summary = randomInterceptSummary(design, fit, effects)
+  const scenarios = (spec.scenarios ?? []).map(sc => randomInterceptScenario(design, fit, sc))
   const t5 = now()
   const warnings: EngineWarning[] = [...design.warnings, ...fit.warnings]
-  if (fit.layout.G < 20) {
-    warnings.push({ code: 'few_clusters', message: `only ${fit.layout.G} villages: the village standard deviation σ is poorly estimated` })
+  if (fit.layout.G < FEW_VILLAGES_RI) {
+    warnings.push({ code: 'few_villages', message: `only ${fit.layout.G} villages (${FEW_VILLAGES_RI} or more are advised): the village standard deviation σ is poorly estimated` })
+  }
+  if (fit.theta[k]! < SIGMA_BOUNDARY) {
+    warnings.push({ code: 'sigma_on_boundary', message: `the village standard deviation σ is estimated at ${fit.theta[k]!.toPrecision(2)}, on the boundary 0: villages do not differ beyond the farm characteristics, and its standard error and ρ's are not reliable; the pooled fit tells the same` })
   }
   if (!summary.quadratureCheck.stable) {
-    warnings.push({ code: 'not_converged', message: `doubling the quadrature points to ${summary.quadratureCheck.points} moves an estimate by ${summary.quadratureCheck.maxChangeInSe.toFixed(3)} standard errors: use more points` })
-  }
-  if ((spec.scenarios ?? []).length) {
-    warnings.push({ code: 'not_converged', message: 'scenarios are not yet computed for the village random-intercept model' })
+    warnings.push({ code: 'quadrature_unstable', message: `doubling the quadrature points to ${summary.quadratureCheck.points} moves an estimate by ${summary.quadratureCheck.maxChangeInSe.toFixed(3)} standard errors: fit again with more points` })
   }
   const matrix: Array<Array<number | null>> = []
   for (let i = 0; i < k; i++) matrix.push(Array.from({ length: k }, (_, j) => (fit.V ? finiteOrNull(fit.V[i * K + j]!) : null)))
@@ -92,12 +99,13 @@ export function runRandomIntercept(
     classification,
     roc,
     hosmerLemeshow: hl,
+    designGof: null,
     predictedHistogram: histogram(p, design.y),
     margins,
     otherMargins,
     overall,
     villages,
-    scenarios: [],
+    scenarios,
     warnings,
     plan: design.plan,
     timings: { designMs: t1 - t0, fitMs: t2 - t1, inferenceMs: t3 - t2, marginsMs: t4 - t3, predictionsMs: t5 - t4, totalMs: t5 - t0 },

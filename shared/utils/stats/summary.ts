@@ -74,7 +74,7 @@ export function fitStatistics(design: Design, fit: Pick<FitResult, 'loglik'>): F
     return {
       n, k, weightSum, loglik: ll, loglikNull: ll0,
       lrChi2: null, lrDf: k - 1, lrP: null, mcfaddenR2: null, aic: null, bic: null,
-      notAvailable: 'With sampling weights the likelihood-ratio test, pseudo-R², AIC, BIC and the Hosmer–Lemeshow test are not available: they change with the scale of the weights. Use the Wald test of all slopes.',
+      notAvailable: 'With sampling weights the likelihood-ratio test, pseudo-R², AIC, BIC and the Hosmer–Lemeshow test are not available: they change with the scale of the weights. Use the Wald test of all slopes, and the design-adjusted test of predicted against observed (Archer–Lemeshow).',
       wald: null
     }
   }
@@ -113,7 +113,11 @@ export function waldAllSlopes(fit: FitResult, cov: Covariance, n: number, weight
   const x = choleskySolve(L, q, b)
   let W = 0
   for (let i = 0; i < q; i++) W += b[i]! * x[i]!
-  const df2 = cov.type === 'cluster' && cov.clusters ? cov.clusters - 1 : weighted && cov.type !== 'conventional' ? n - 1 : null
+  // Design df: clusters − 1 with cluster SEs, PSUs − strata with a survey design.
+  const surveyDf = (cov as Covariance & { df?: number }).df
+  const df2 = cov.type === 'survey' && surveyDf !== undefined
+    ? surveyDf
+    : cov.type === 'cluster' && cov.clusters ? cov.clusters - 1 : weighted && cov.type !== 'conventional' ? n - 1 : null
   if (df2 !== null && df2 > 0) return { statistic: W / q, df: q, df2, p: fSf(W / q, q, df2), kind: 'F' }
   return { statistic: W, df: q, df2: null, p: chiSquareSf(W, q), kind: 'chi2' }
 }

@@ -13,7 +13,9 @@
  * The fpc column holds, per row, either the number of PSUs in the stratum's population
  * (≥ 1 means a count, f_h = n_h / N_h) or the sampling fraction itself (< 1).
  * PSU labels are taken within strata (the same label in two strata is two PSUs).
- * Design degrees of freedom: PSUs − strata.
+ * Design degrees of freedom: PSUs − strata. A stratum with a single sampled PSU has no
+ * within-stratum variance: its PSU total enters about the grand mean (see stratifiedMeat) and the
+ * results carry a `singleton_stratum` warning.
  */
 import type { Covariance } from './covariance'
 import type { Design } from './design'
@@ -35,6 +37,8 @@ export interface SurveyCovariance extends Covariance {
   strataCount: number
   psuCount: number
   df: number
+  /** Labels of strata with a single sampled PSU. */
+  singletonStrata: string[]
 }
 
 /** Reads the strata and fpc columns for the rows the design used. */
@@ -78,14 +82,31 @@ export function readSurveyColumns(data: DataInput, design: Design, strata?: stri
   return { strata: strataIdx, strataLabels: labels, fraction }
 }
 
-export function surveyCovariance(
-  design: Design, fit: FitResult, cols: SurveyColumns, bread: 'observed' | 'expected' = 'observed'
-): SurveyCovariance {
-  const { n, k, X, y, w } = design
-  if (!w) throw new EngineInputError('invalid_spec', 'a survey design needs probability weights')
-  const link = getLink(fit.link)
+/** Which PSU (stratum, cluster) each design row belongs to, with the per-stratum counts and fractions. */
+export interface PsuLayout {
+  /** PSU index per design row. */
+  psuOf: Int32Array
+  /** Stratum of each PSU. */
+  psuStratum: number[]
+  /** Number of strata. */
+  H: number
+  /** Number of PSUs. */
+  C: number
+  /** Sampled PSUs per stratum. */
+  nh: Int32Array
+  /** Sampling fraction of PSUs per stratum (0 without a finite-population correction). */
+  fh: Float64Array
+  /** Strata with a single PSU (their variance cannot be estimated). */
+  singletons: number[]
+}
+
+/**
+ * PSU identity is (stratum, cluster); without a cluster every row is its own PSU. Strata with one
+ * PSU are listed in `singletons`, not refused: see stratifiedMeat, and the caller warns.
+ */
+export function psuLayout(design: Design, cols: SurveyColumns): PsuLayout {
+  const n = design.n
   const H = (cols.strata ? Math.max(0, ...cols.strata) + 1 : 1)
-  // PSU identity is (stratum, cluster); without a cluster every row is its own PSU.
   const psuKey = new Map<number, number>()
   const psuOf = new Int32Array(n)
   const psuStratum: number[] = []
@@ -119,11 +140,49 @@ export function surveyCovariance(
       fh[h] = f
     }
   }
-  for (let h = 0; h < H; h++) {
-    if (nh[h] === 1) {
-      throw new EngineInputError('invalid_spec', `stratum ${cols.strataLabels[h] ?? String(h + 1)} has only one primary sampling unit: its variance cannot be estimated; merge it with a neighbouring stratum`)
+  const singletons: number[] = []
+  for (let h = 0; h < H; h++) if (nh[h] === 1) singletons.push(h)
+  return { psuOf, psuStratum, H, C, nh, fh, singletons }
+}
+
+/**
+ * Σ_h (1 − f_h) n_h/(n_h − 1) Σ_c (z_hc − z̄_h)(z_hc − z̄_h)' for PSU totals Z (C×k, row-major).
+ * A stratum with one PSU contributes its uncentred total (the scores and influence values used here
+ * sum to 0 over the sample, so that is centring at the grand mean), and the caller warns.
+ */
+export function stratifiedMeat(Z: Float64Array, lay: PsuLayout, k: number): Float64Array {
+  const { C, H, nh, fh, psuStratum } = lay
+  const mean = new Float64Array(H * k)
+  for (let c = 0; c < C; c++) {
+    const h = psuStratum[c]!
+    for (let j = 0; j < k; j++) mean[h * k + j]! += Z[c * k + j]! / nh[h]!
+  }
+  const meat = new Float64Array(k * k)
+  const d = new Float64Array(k)
+  for (let c = 0; c < C; c++) {
+    const h = psuStratum[c]!
+    // A stratum with one PSU: its total is taken about the grand mean, which is 0 for estimating
+    // equations solved at the estimate (the "adjust" treatment of a lonely PSU), scaled by 1 − f_h.
+    const lonely = nh[h]! < 2
+    const factor = lonely ? 1 - fh[h]! : (1 - fh[h]!) * nh[h]! / (nh[h]! - 1)
+    for (let j = 0; j < k; j++) d[j] = Z[c * k + j]! - (lonely ? 0 : mean[h * k + j]!)
+    for (let j = 0; j < k; j++) {
+      const dj = factor * d[j]!
+      for (let m = 0; m <= j; m++) meat[j * k + m]! += dj * d[m]!
     }
   }
+  for (let j = 0; j < k; j++) for (let m = 0; m < j; m++) meat[m * k + j] = meat[j * k + m]!
+  return meat
+}
+
+export function surveyCovariance(
+  design: Design, fit: FitResult, cols: SurveyColumns, bread: 'observed' | 'expected' = 'observed'
+): SurveyCovariance {
+  const { n, k, X, y, w } = design
+  if (!w) throw new EngineInputError('invalid_spec', 'a survey design needs probability weights')
+  const link = getLink(fit.link)
+  const lay = psuLayout(design, cols)
+  const { psuOf, H, C } = lay
   const t = new Float64Array(3)
   const Z = new Float64Array(C * k)
   const A = new Float64Array(k * k)
@@ -151,23 +210,7 @@ export function surveyCovariance(
     for (let j = 0; j < k; j++) for (let m = 0; m < j; m++) A[m * k + j] = A[j * k + m]!
   }
   else for (let i = 0; i < k * k; i++) A[i] = -fit.hessian[i]!
-  const mean = new Float64Array(H * k)
-  for (let c = 0; c < C; c++) {
-    const h = psuStratum[c]!
-    for (let j = 0; j < k; j++) mean[h * k + j]! += Z[c * k + j]! / nh[h]!
-  }
-  const meat = new Float64Array(k * k)
-  const d = new Float64Array(k)
-  for (let c = 0; c < C; c++) {
-    const h = psuStratum[c]!
-    const factor = (1 - fh[h]!) * nh[h]! / (nh[h]! - 1)
-    for (let j = 0; j < k; j++) d[j] = Z[c * k + j]! - mean[h * k + j]!
-    for (let j = 0; j < k; j++) {
-      const dj = factor * d[j]!
-      for (let m = 0; m <= j; m++) meat[j * k + m]! += dj * d[m]!
-    }
-  }
-  for (let j = 0; j < k; j++) for (let m = 0; m < j; m++) meat[m * k + j] = meat[j * k + m]!
+  const meat = stratifiedMeat(Z, lay, k)
   const Ainv = invertSpd(A, k)
   const df = C - H
   return {
@@ -177,6 +220,7 @@ export function surveyCovariance(
     clusters: C,
     strataCount: H,
     psuCount: C,
-    df
+    df,
+    singletonStrata: lay.singletons.map(h => cols.strataLabels[h] ?? String(h + 1))
   }
 }

@@ -229,6 +229,38 @@ export interface HosmerLemeshow {
   groups: HosmerLemeshowGroup[]
 }
 
+export interface DesignGofGroup {
+  group: number
+  /** Farms in the group. */
+  n: number
+  /** Sum of their weights. */
+  weight: number
+  minPredicted: number
+  maxPredicted: number
+  /** Weighted means. */
+  meanPredicted: number
+  observedRate: number
+  /** Weighted mean of y − p̂, and its design-based standard error. */
+  meanResidual: number
+  se: number
+}
+
+/** Archer & Lemeshow (2006) F-adjusted mean residual test, for fits with probability weights. */
+export interface DesignGof {
+  method: 'archer-lemeshow'
+  groups: DesignGofGroup[]
+  /** Wald statistic of the groups' mean residuals; null when their covariance is singular. */
+  wald: number | null
+  /** F-adjusted statistic; null when the design has too few degrees of freedom. */
+  statistic: number | null
+  numDf: number
+  denDf: number
+  /** Design degrees of freedom f (PSUs − strata). */
+  designDf: number
+  p: number | null
+  reading: string
+}
+
 export interface MarginalEffect extends Estimate {
   covariate: string
   /** Human-readable, e.g. 'soil type: clay vs loam'. */
@@ -309,6 +341,8 @@ export interface ModelResults {
   classification: ClassificationTable
   roc: { auc: number, points: RocPoint[] }
   hosmerLemeshow: HosmerLemeshow | null
+  /** With probability weights, in place of Hosmer–Lemeshow (absent in results saved before it existed). */
+  designGof?: DesignGof | null
   predictedHistogram: PredictedHistogram
   margins: Margins | null
   /** With `bothMargins`: MEM when `margins` is AME, and AME when it is MEM; otherwise null. */

@@ -85,8 +85,17 @@ const cases: Case[] = [
   generated(6, 'logit', { strata: true, psu: true, fpc: true }),
   generated(7, 'logit', { strata: false, psu: false, fpc: false }),
   apistrat('logit', true),
-  apistrat('probit', false)
+  apistrat('probit', false),
+  singleton(8, 'probit'),
+  singleton(9, 'logit')
 ]
+
+/** A stratum with one sampled village: its total about the grand mean (survey.lonely.psu = "adjust" in R). */
+function singleton(seed: number, link: LinkName): Case {
+  const base = generated(seed, link, { strata: true, psu: true, fpc: true })
+  const rows = base.rows.filter(r => r.district !== 'd1' || r.village === 'v0')
+  return makeCase(`gen${seed}-lonely`, link, rows, ['x1', 'x2'], { strata: true, psu: true, fpc: true })
+}
 
 interface Ref { id: string, coef: number[], se: number[], df: number }
 let ref: Ref[] = []
@@ -151,6 +160,9 @@ describe('survey design in the results', () => {
     expect((row.ciHigh! - row.estimate) / row.se!).toBeGreaterThan(1.97)
     expect(s.wald.numDf).toBe(c.design.k - 1)
     expect(s.wald.p).toBeLessThan(0.01)
+    // The fit summary's Wald test is the same design test, on the design's degrees of freedom.
+    expect(c.results.fit.wald!.df2).toBe(s.df)
+    expect(relErr(c.results.fit.wald!.statistic, s.wald.statistic)).toBeLessThan(1e-12)
     expect(s.note).toMatch(/not valid/)
     expect(c.results.covariance.type).toBe('survey')
   })
@@ -161,9 +173,12 @@ describe('survey design in the results', () => {
     again.coefficients.forEach((row, j) => expect(relErr(row.se!, c.results.coefficients[j]!.se!)).toBeLessThan(1e-9))
   }, 60_000)
 
-  it('refuses a stratum with one PSU and a survey without weights', () => {
-    const rows = c.rows.filter(r => r.district !== 'd0' || r.village === 'v0')
-    expect(() => runModel(rows, { outcome: 'y', covariates: [{ name: 'x1' }], weights: 'w', cluster: 'village', strata: 'district', villageTreatment: 'survey' })).toThrow(/only one primary sampling unit/)
+  it('says which stratum has one sampled village, and refuses a survey without weights', () => {
+    const lonely = cases.find(x => x.id === 'gen8-lonely')!.results
+    const w = lonely.warnings.find(x => x.code === 'singleton_stratum')!
+    expect(w.message).toMatch(/stratum d1 has only one sampled village/)
+    expect(w.variables).toEqual(['d1'])
+    expect(c.results.warnings.map(x => x.code)).not.toContain('singleton_stratum')
     expect(() => runModel(c.rows, { outcome: 'y', covariates: [{ name: 'x1' }], cluster: 'village', villageTreatment: 'survey' })).toThrow(/probability weights/)
   })
 })

@@ -28,6 +28,18 @@ describe('model builder choices → engine specification', () => {
     expect(equationText(spec)).toBe('P(adopt = 1) = Φ(β₀ + β₁·log Farm size (ha) + β₂·Extension contact last season + β₃·[Soil type = loam] + β₄·[Soil type = sand])')
   })
 
+  it('passes the checks on as model terms: a logged number by its log term, nothing when none is asked', () => {
+    const spec = specFromRequest(request({
+      roundId: 1, covariates: [{ key: 'farm_size', transform: 'log' }, { key: 'extension' }, { key: 'soil' }],
+      checks: { linkTest: true, hetero: ['farm_size', 'extension'] }
+    }), questions, 'adopted')
+    expect(spec.checks).toEqual({ linkTest: true, hetero: ['log(farm_size)', 'extension'] })
+    expect(specFromRequest(request({ roundId: 1, covariates: [{ key: 'extension' }] }), questions, 'adopted').checks).toBeUndefined()
+    expect(() => specFromRequest(request({ roundId: 1, covariates: [{ key: 'soil' }], checks: { hetero: ['soil'] } }), questions, 'adopted')).toThrow(/numbers and yes\/no/)
+    expect(modelRequestSchema.safeParse({ roundId: 1, covariates: [{ key: 'extension' }], link: 'logit', checks: { hetero: ['extension'] } }).success).toBe(false)
+    expect(modelRequestSchema.safeParse({ roundId: 1, covariates: [{ key: 'extension' }], checks: { hetero: ['farm_size'] } }).success).toBe(false)
+  })
+
   it.each([
     [{ covariates: [{ key: 'visit_date' }] }, /not a number, yes\/no or choice/],
     [{ covariates: [{ key: 'adopted' }] }, /not a number, yes\/no or choice/],
