@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto'
 import { Photo, Visit } from '../db/models'
+import { isErasedVisit } from './erasure'
 
 export const PHOTO_TYPES: Record<string, string> = { 'image/jpeg': 'jpg', 'image/png': 'png', 'image/webp': 'webp' }
 
@@ -12,6 +13,7 @@ interface Actor { id: number, organisationId: number }
 export async function storePhoto(actor: Actor, photo: { id: string, visitId: string, contentType: string, sha256: string }, body: Buffer) {
   const visit = await Visit.findOne({ where: { id: photo.visitId, enumeratorId: actor.id, organisationId: actor.organisationId }, attributes: ['id'] })
   if (!visit) throw createError({ statusCode: 404, message: 'No such visit on the server yet: sync the visit before its photos.' })
+  if (await isErasedVisit(visit.id)) throw createError({ statusCode: 410, message: 'This farm\'s personal data was erased at the farmer\'s request: its photos are not taken.' })
   const sha256 = createHash('sha256').update(body).digest('hex')
   if (sha256 !== photo.sha256) throw createError({ statusCode: 400, message: 'The photo arrived damaged (checksum mismatch). Try again.' })
   const existing = await Photo.findByPk(photo.id)
