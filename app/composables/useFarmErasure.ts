@@ -39,12 +39,15 @@ export function useFarmErasure() {
     const parsed = erasureRequestSchema.safeParse({ farmCode: found.farmCode, reason: reason.value })
     fieldErrors.value = parsed.success ? {} : fieldErrorsOf(parsed.error)
     if (!parsed.success) return
+    const accepted = found.rounds.reduce((n, r) => n + r.accepted, 0)
     const ok = await ask({
       title: `Erase farm ${found.farmCode}'s personal data?`,
       points: [
-        `${found.visits} visit${found.visits === 1 ? '' : 's'} in ${found.rounds.length} round${found.rounds.length === 1 ? '' : 's'} lose the farm code (replaced by a new id), position, photos (${found.photos}) and free-text answers.`,
+        `${found.visits} visit${found.visits === 1 ? '' : 's'} in ${found.rounds.length} round${found.rounds.length === 1 ? '' : 's'} ${found.visits === 1 ? 'loses' : 'lose'} the farm code (replaced by a new id), position, photos (${found.photos}) and free-text answers.`,
         `The ${found.tablets} tablet${found.tablets === 1 ? '' : 's'} holding these visits delete${found.tablets === 1 ? 's' : ''} their copies at the next sync; later exports leave them out or show the new id.`,
-        'Model fits that used the farm are marked as built on data that has since changed.',
+        accepted
+          ? 'Model fits that used the farm are marked as built on data that has since changed.'
+          : 'No accepted visit of the farm: no model fit used it.',
         'This cannot be undone. The audit log keeps your reason, not the erased values.'
       ],
       confirmLabel: 'Erase the personal data',

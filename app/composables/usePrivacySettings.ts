@@ -22,7 +22,8 @@ export function usePrivacySettings() {
 
   async function save() {
     message.value = ''
-    const retentionDays = Object.fromEntries(PERSONAL_DATA_KINDS.map(k => [k, days[k].trim() === '' ? null : Number(days[k])]))
+    // A number input's v-model may hand back a number: read every value as text first.
+    const retentionDays = Object.fromEntries(PERSONAL_DATA_KINDS.map(k => [k, String(days[k] ?? '').trim() === '' ? null : Number(days[k])]))
     const parsed = privacySettingsSchema.safeParse({ keepAnswersAfterErasure: keepAnswers.value, retentionDays })
     fieldErrors.value = parsed.success ? {} : fieldErrorsOf(parsed.error)
     if (!parsed.success) return
