@@ -42,7 +42,7 @@ export function retryAfterMsOf(header: string | null, now = Date.now()): number 
 }
 
 export interface SyncProgress { phase: 'setup' | 'visits' | 'photos' | 'states', done: number, total: number }
-export interface SyncSummary { sent: number, stored: number, conflicts: number, rejected: number, photos: number }
+export interface SyncSummary { sent: number, stored: number, conflicts: number, rejected: number, photos: number, erased: number }
 
 const DEVICE_BATCH = 200
 
@@ -101,9 +101,15 @@ async function pushVisits(db: FieldDatabase, summary: SyncSummary, progress: (p:
     })
     summary.sent += batch.length
     const now = new Date().toISOString()
-    await db.transaction('rw', db.visits, async () => {
+    await db.transaction('rw', db.visits, db.photos, async () => {
       for (const result of answer.results) {
         const local = batch.find(v => v.id === result.id)
+        if (local && result.status === 'erased') {
+          // The farmer withdrew consent and the farm's data was erased: this copy goes, whatever its state.
+          summary.erased++
+          await dropLocalCopies(db, [local.id])
+          continue
+        }
         // Only a copy unchanged since it was sent may be marked: an edit made meanwhile stays queued.
         if (!local) continue
         const current = await db.visits.get(local.id)
@@ -148,10 +154,21 @@ async function pushPhotos(db: FieldDatabase, summary: SyncSummary, progress: (p:
   }
 }
 
-async function pullStates(db: FieldDatabase) {
+/** Deletes visits and their photos from this tablet (an erasure on request reached it). */
+export async function dropLocalCopies(db: FieldDatabase, visitIds: string[]): Promise<number> {
+  if (!visitIds.length) return 0
+  const held = (await db.visits.bulkGet(visitIds)).filter(Boolean).length
+  await db.photos.where('visitId').anyOf(visitIds).delete()
+  await db.visits.bulkDelete(visitIds)
+  return held
+}
+
+async function pullStates(db: FieldDatabase, summary: SyncSummary) {
   const since = (await db.cache.get('statesSince'))?.value as string | undefined
   const states = await json<VisitStates>(`/api/sync/visits${since ? `?since=${encodeURIComponent(since)}` : ''}`)
-  await db.transaction('rw', db.visits, db.cache, async () => {
+  await db.transaction('rw', db.visits, db.photos, db.cache, async () => {
+    // Erased at the farmer's request: the copy goes whatever its local state, edits and unsent photos included.
+    summary.erased += await dropLocalCopies(db, states.erased ?? [])
     for (const server of states.visits) {
       const local = await db.visits.get(server.id)
       if (!local || local.state === 'queued' || local.state === 'draft' || local.state === 'conflict') continue
@@ -173,13 +190,13 @@ async function pullStates(db: FieldDatabase) {
 }
 
 export async function syncOnce(db: FieldDatabase, progress: (p: SyncProgress) => void = () => {}): Promise<SyncSummary> {
-  const summary: SyncSummary = { sent: 0, stored: 0, conflicts: 0, rejected: 0, photos: 0 }
+  const summary: SyncSummary = { sent: 0, stored: 0, conflicts: 0, rejected: 0, photos: 0, erased: 0 }
   progress({ phase: 'setup', done: 0, total: 1 })
   await refreshSetup(db)
   await pushVisits(db, summary, progress)
   await pushPhotos(db, summary, progress)
   progress({ phase: 'states', done: 0, total: 1 })
-  await pullStates(db)
+  await pullStates(db, summary)
   await db.cache.put({ key: 'lastSyncAt', value: new Date().toISOString() })
   return summary
 }

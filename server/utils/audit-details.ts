@@ -110,11 +110,21 @@ export function detailLines(entry: AuditEntry, questions: Question[] = []): stri
       if (Array.isArray(d.names)) lines.push(`Scenarios: ${d.names.join(', ')}`)
       break
     case 'round.export':
-      if (d.part) lines.push(`Part: ${d.part}`)
+    case 'round.export_identifying':
+      if (d.part) lines.push(`Part: ${d.part}${d.precision ? `, positions: ${d.precision === 'none' ? 'left out' : `${d.precision} decimals`}` : ''}`)
       break
+    case 'farm.erase':
+      lines.push(`${shown(d.visits)} visits and ${shown(d.photos)} photos; the farm is now ${shown(d.opaqueId)}${d.keptAnswers ? ' (non-identifying answers kept)' : ' (visits deleted)'}`)
+      break
+    case 'retention.purge': {
+      const counts = (d.counts ?? {}) as Record<string, unknown>
+      lines.push(`Photos ${shown(counts.photos)}, positions ${shown(counts.gps)}, names ${shown(counts.names)} in ${shown(d.rounds)} rounds${d.scheduled ? ' (scheduled check)' : ''}`)
+      break
+    }
     default:
       break
   }
   if (typeof d.reason === 'string' && d.reason) lines.push(`Why: ${REASONS[d.reason] ?? d.reason}`)
+  if (typeof d.removed === 'string') lines.push(`Details removed: ${d.removed}`)
   return lines
 }

@@ -55,7 +55,14 @@ const configSchema = z.object({
   PHOTO_MAX_BYTES: z.coerce.number().int().min(1024).default(3 * 1024 * 1024),
   // Quality flags on visits.
   FIELD_FAR_RADIUS_KM: z.coerce.number().positive().default(5),
-  FIELD_MIN_INTERVIEW_SECONDS: z.coerce.number().int().min(0).default(180)
+  FIELD_MIN_INTERVIEW_SECONDS: z.coerce.number().int().min(0).default(180),
+  // The secret behind farm pseudonyms in exports and erased-farm keys (HMAC-SHA256, one key per organisation
+  // derived from it). Kept out of the database, so a database dump alone cannot turn pseudonyms back into farm
+  // codes. Unset: derived from NUXT_SESSION_PASSWORD (then changing that password changes every pseudonym).
+  PSEUDONYM_SECRET: z.string().min(32).optional(),
+  // How often this server looks for personal data due for its retention purge (0: never; one server at a time
+  // runs it, under a lease row).
+  RETENTION_CHECK_MINUTES: z.coerce.number().int().min(0).default(60)
 })
 
 export type ServerConfig = z.infer<typeof configSchema>

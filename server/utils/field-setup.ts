@@ -2,6 +2,7 @@ import { Op } from 'sequelize'
 import type { FieldSetup, VisitStates } from '#shared/types/field'
 import { questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit } from '../db/models'
+import { erasedVisitIdsFor } from './erasure'
 import { serverCopyOf } from './field-sync'
 
 interface Actor { id: number, organisationId: number }
@@ -38,6 +39,12 @@ export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
 export async function visitStatesFor(actor: Actor, since?: Date): Promise<VisitStates> {
   const at = new Date()
   const where = { enumeratorId: actor.id, organisationId: actor.organisationId, ...(since ? { updatedAt: { [Op.gte]: since } } : {}) }
-  const visits = await Visit.findAll({ where, order: [['updatedAt', 'DESC']], limit: 5000 })
-  return { visits: visits.map(serverCopyOf), at: at.toISOString() }
+  const [visits, erased] = await Promise.all([
+    Visit.findAll({ where, order: [['updatedAt', 'DESC']], limit: 5000 }),
+    erasedVisitIdsFor(actor, since)
+  ])
+  // An erased visit is never sent back as a record (even when its non-identifying answers were kept): the tablet
+  // is only told to drop its copy.
+  const gone = new Set(erased)
+  return { visits: visits.filter(v => !gone.has(v.deviceId ?? v.id)).map(serverCopyOf), erased, at: at.toISOString() }
 }

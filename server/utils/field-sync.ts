@@ -5,6 +5,7 @@ import { type ServerVisit, type SyncAnswer, type SyncResult, type SyncStatus, ad
 import { fieldErrorsOf } from '#shared/utils/zod-errors'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'
+import { erasedFarmCodes } from './erasure'
 import { intrinsicFlags } from './visit-flags'
 
 interface Actor { id: number, organisationId: number }
@@ -143,7 +144,8 @@ async function withConflictRetry<T>(work: () => Promise<T>, attempts = 5): Promi
  * duplicate-farm-code flags, which touch other people's visits, set after the commit in a statement of their own.
  */
 export async function ingestVisits(actor: Actor, records: unknown[]): Promise<SyncAnswer> {
-  const { checked, ctx } = await checkRecords(actor, records)
+  const { checked: all, ctx } = await checkRecords(actor, records)
+  const checked = await withoutErasedFarms(actor, all)
   const settings = { farRadiusKm: serverConfig().FIELD_FAR_RADIUS_KM, minInterviewSeconds: serverConfig().FIELD_MIN_INTERVIEW_SECONDS }
   const results = await withConflictRetry(() => database().transaction(
     { isolationLevel: Transaction.ISOLATION_LEVELS.READ_COMMITTED },
@@ -152,12 +154,30 @@ export async function ingestVisits(actor: Actor, records: unknown[]): Promise<Sy
   // runs it again, so no flag is lost to a crash between the commit and here.
   const valid = checked.flatMap(c => 'input' in c && results[c.index]?.status !== 'rejected' ? [c.input] : [])
   await withConflictRetry(() => flagDuplicateFarmCodes(valid))
-  const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0 }
+  const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0, erased: 0 }
   for (const r of results) counts[r.status]++
   return { results, counts }
 }
 
 type Valid = Extract<Checked, { input: VisitInput }>
+
+/**
+ * A record of a farm whose personal data was erased (by the farm code's key, or a visit id already erased) is not
+ * stored again: the answer `erased` tells the tablet to delete its copy, which a farmer who withdrew consent is owed.
+ */
+async function withoutErasedFarms(actor: Actor, checked: Checked[]): Promise<Checked[]> {
+  const valid = checked.flatMap(c => 'input' in c ? [c.input] : [])
+  if (!valid.length) return checked
+  const [codes, ids] = await Promise.all([
+    erasedFarmCodes(actor.organisationId, [...new Set(valid.map(v => v.farmCode))]),
+    // Matched in the enumerator's own space, by the id the tablet knows (migration 0070), like every sync lookup.
+    database().query<{ id: string }>('SELECT device_key AS id FROM erased_visits WHERE enumerator_id = ? AND device_key IN (?)', { replacements: [actor.id, valid.map(v => v.id)], type: QueryTypes.SELECT })
+  ])
+  const erasedIds = new Set(ids.map(r => r.id))
+  return checked.map(c => 'input' in c && (codes.has(c.input.farmCode) || erasedIds.has(c.input.id))
+    ? { index: c.index, result: { id: c.input.id, status: 'erased' } }
+    : c)
+}
 
 async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnType<typeof loadContext>>, settings: { farRadiusKm: number, minInterviewSeconds: number }, transaction: Transaction): Promise<SyncResult[]> {
   const results: SyncResult[] = checked.map(c => 'result' in c ? c.result : { id: c.input.id, status: 'stored' })

@@ -1,6 +1,7 @@
 import { createHash, randomUUID } from 'node:crypto'
 import { Op, col, where as sqlWhere } from 'sequelize'
 import { Photo, Visit } from '../db/models'
+import { isErasedVisit } from './erasure'
 
 export const PHOTO_TYPES: Record<string, string> = { 'image/jpeg': 'jpg', 'image/png': 'png', 'image/webp': 'webp' }
 
@@ -15,6 +16,7 @@ export async function storePhoto(actor: Actor, photo: { id: string, visitId: str
   // (migration 0070), so the answer never depends on another person's rows.
   const visit = await Visit.findOne({ where: { enumeratorId: actor.id, organisationId: actor.organisationId, [Op.and]: [sqlWhere(col('device_key'), photo.visitId)] }, attributes: ['id'] })
   if (!visit) throw createError({ statusCode: 404, message: 'No such visit on the server yet: sync the visit before its photos.' })
+  if (await isErasedVisit(visit.id)) throw createError({ statusCode: 410, message: 'This farm\'s personal data was erased at the farmer\'s request: its photos are not taken.' })
   const sha256 = createHash('sha256').update(body).digest('hex')
   if (sha256 !== photo.sha256) throw createError({ statusCode: 400, message: 'The photo arrived damaged (checksum mismatch). Try again.' })
   const existing = await Photo.findOne({ where: { visitId: visit.id, [Op.and]: [sqlWhere(col('device_key'), photo.id)] } })

@@ -108,7 +108,8 @@ export async function updateRound(event: H3Event, user: SignedInUser, id: number
         // Opening freezes the questionnaire: from now on every edit makes a new version.
         await QuestionnaireVersion.update({ frozenAt: new Date() }, { where: { id: round.currentVersionId!, frozenAt: null }, transaction })
       }
-      await round.update({ status: patch.status }, { transaction })
+      // Retention periods count from the last close; a reopened round is not due for any purge.
+      await round.update({ status: patch.status, closedAt: patch.status === 'closed' ? new Date() : null }, { transaction })
       const action = from === 'closed' ? 'round.reopen' : `round.${patch.status}`
       await audit(event, user, { action, entityType: 'round', entityId: id, details: { name: round.name, from, to: patch.status } }, transaction)
     }

@@ -1,44 +1,82 @@
 import { MODEL_CAUTIONS } from '#shared/utils/cautions'
+import { EXPORT_PRIVACY_NOTE } from '#shared/utils/privacy-words'
 import type { Question } from '#shared/utils/schemas/questionnaire'
+import type { VisitExportQuery } from '#shared/utils/schemas/privacy'
 import { ownValue } from '#shared/utils/schemas/safe-text'
 import { QuestionnaireVersion, Village, Visit } from '../db/models'
+import { pseudonymOf } from './pseudonyms'
+
+/**
+ * How a visit export treats personal data. Pseudonymised (the default, for analysts): farm codes become the
+ * organisation's stable pseudonyms, positions are rounded to `precision` decimals (or left out), free-text answers
+ * are left out (they may name people). Identifying: farm codes, exact positions and free text, only with a stated
+ * reason (the route audits it).
+ */
+export interface ExportMode { identifying: boolean, precision: VisitExportQuery['precision'] }
+export const PSEUDONYMISED: ExportMode = { identifying: false, precision: '2' }
+
+function rounded(value: number | null, precision: ExportMode['precision']): string | number | null {
+  if (value === null) return null
+  return precision === 'none' ? null : value.toFixed(Number(precision))
+}
+
+/** The columns of the export in this mode: the fixed ones, then one per question it carries. */
+function exportColumns(questions: Question[], mode: ExportMode) {
+  const withPositions = mode.identifying || mode.precision !== 'none'
+  const carried = questions.filter(q => mode.identifying || q.type !== 'text')
+  const fixed: Array<[string, string, string]> = [
+    ['visit_id', 'Identifier made on the tablet (UUID)', 'text'],
+    ['village_code', 'Village code', 'text'],
+    ['village', 'Village name', 'text'],
+    mode.identifying
+      ? ['farm_code', 'Farm code given by the programme (identifies the farm: handle as personal data)', 'text']
+      : ['farm_pseudonym', 'The farm under a pseudonym: the same farm has the same pseudonym in every export of the organisation, and the farm code cannot be worked out from it', 'text'],
+    ...(withPositions
+      ? [
+          ['lat', mode.identifying ? 'Latitude as recorded (WGS 84)' : `Latitude (WGS 84), rounded to ${mode.precision} decimal${mode.precision === '1' ? '' : 's'}`, 'number'],
+          ['lon', mode.identifying ? 'Longitude as recorded (WGS 84)' : `Longitude (WGS 84), rounded to ${mode.precision} decimal${mode.precision === '1' ? '' : 's'}`, 'number']
+        ] as Array<[string, string, string]>
+      : []),
+    ['saved_at', 'When the visit was saved (UTC, ISO 8601)', 'date-time'],
+    ['questionnaire_version_id', 'The questionnaire version the visit was answered with', 'whole number']
+  ]
+  return { fixed, carried, withPositions }
+}
 
 /**
  * The accepted visits of a round, one row each, with a column per question of the current questionnaire.
  * Household-level data: coordinators only. One rectangular table; the cautions travel in the read-me of the zip.
  */
-export async function acceptedVisitsCsv(roundId: number, organisationId: number, currentVersionId: number | null): Promise<string> {
+export async function acceptedVisitsCsv(roundId: number, organisationId: number, currentVersionId: number | null, mode: ExportMode = PSEUDONYMISED): Promise<string> {
   const questions = await currentQuestions(currentVersionId)
+  const { fixed, carried, withPositions } = exportColumns(questions, mode)
   const [visits, villages] = await Promise.all([
     Visit.findAll({ where: { roundId, organisationId, reviewState: 'accepted' }, order: [['id', 'ASC']] }),
     Village.findAll({ where: { organisationId }, attributes: ['id', 'code', 'name'] })
   ])
   const village = new Map(villages.map(v => [v.id, v]))
   return csvTable(
-    ['visit_id', 'village_code', 'village', 'farm_code', 'saved_at', 'questionnaire_version_id', ...questions.map(q => q.key)],
+    [...fixed.map(([column]) => column), ...carried.map(q => q.key)],
     visits.map((v) => {
-      const answers = questions.map((q) => {
+      const answers = carried.map((q) => {
         const value = ownValue(v.answers, q.key)
         return typeof value === 'boolean' ? (value ? 'yes' : 'no') : value
       })
-      return [v.id, village.get(v.villageId)?.code, village.get(v.villageId)?.name, v.farmCode, v.savedAt.toISOString(), v.questionnaireVersionId, ...answers]
+      // A purged or erased visit holds its pseudonym or its new id already: written as it is.
+      const farm = mode.identifying || v.namesPurgedAt ? v.farmCode : pseudonymOf(organisationId, v.farmCode)
+      const position = withPositions
+        ? (mode.identifying ? [v.lat, v.lon] : [rounded(v.lat, mode.precision), rounded(v.lon, mode.precision)])
+        : []
+      return [v.id, village.get(v.villageId)?.code, village.get(v.villageId)?.name, farm, ...position, v.savedAt.toISOString(), v.questionnaireVersionId, ...answers]
     })
   )
 }
 
 /** The data dictionary of the export: what each column means, its type, unit and allowed answers. */
-export async function dataDictionaryCsv(currentVersionId: number | null): Promise<string> {
-  const questions = await currentQuestions(currentVersionId)
-  const fixed: Array<[string, string, string]> = [
-    ['visit_id', 'Identifier made on the tablet (UUID)', 'text'],
-    ['village_code', 'Village code', 'text'],
-    ['village', 'Village name', 'text'],
-    ['farm_code', 'Farm code given by the programme', 'text'],
-    ['saved_at', 'When the visit was saved (UTC, ISO 8601)', 'date-time'],
-    ['questionnaire_version_id', 'The questionnaire version the visit was answered with', 'whole number']
-  ]
-  const rows: unknown[][] = fixed.map(([column, meaning, type]) => [column, meaning, type, '', '', 'yes'])
-  for (const q of questions) {
+export async function dataDictionaryCsv(currentVersionId: number | null, mode: ExportMode = PSEUDONYMISED): Promise<string> {
+  const { fixed, carried } = exportColumns(await currentQuestions(currentVersionId), mode)
+  const rows: unknown[][] = fixed.map(([column, meaning, type]) => [column, meaning, type, '', '', column === 'lat' || column === 'lon' ? 'no' : 'yes'])
+  for (const q of carried) {
     const allowed = q.type === 'choice'
       ? q.options.map(o => `${o.value} = ${o.label}`).join('; ')
       : q.type === 'yesno'
@@ -53,12 +91,19 @@ export async function dataDictionaryCsv(currentVersionId: number | null): Promis
 }
 
 /** The round's export in one zip: the visits, the dictionary of their columns, and a read-me with the cautions. */
-export async function roundExportZip(round: { id: number, name: string, currentVersionId: number | null }, organisationId: number): Promise<Uint8Array> {
-  const [visits, dictionary] = await Promise.all([acceptedVisitsCsv(round.id, organisationId, round.currentVersionId), dataDictionaryCsv(round.currentVersionId)])
+export async function roundExportZip(round: { id: number, name: string, currentVersionId: number | null }, organisationId: number, mode: ExportMode = PSEUDONYMISED): Promise<Uint8Array> {
+  const [visits, dictionary] = await Promise.all([
+    acceptedVisitsCsv(round.id, organisationId, round.currentVersionId, mode),
+    dataDictionaryCsv(round.currentVersionId, mode)
+  ])
   const readme = [
     `Furrowcast: accepted visits of the round "${round.name}"`,
     '',
     ...MODEL_CAUTIONS.map(c => `- ${c}`),
+    '',
+    mode.identifying
+      ? 'This export identifies farms (farm codes, exact positions, free-text answers). It was made for a stated reason, recorded in the audit log: keep it only as long as that reason needs, share it with nobody else.'
+      : `${EXPORT_PRIVACY_NOTE} Free-text answers are left out: they may name people.`,
     '',
     'Files (each one table, its header on the first row):',
     '- visits.csv: one row per accepted visit, one column per question.',

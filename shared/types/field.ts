@@ -32,6 +32,8 @@ export interface FieldSetup {
 /** GET /api/sync/visits */
 export interface VisitStates {
   visits: ServerVisit[]
+  /** Visits whose personal data was erased at the farmer's request: the tablet deletes its copy and photos. */
+  erased: string[]
   at: string
 }
 

@@ -36,7 +36,11 @@ const ACTIONS: Record<string, string> = {
   'model.scenario': 'Ran scenarios',
   'publication.publish': 'Published to funders',
   'publication.replace': 'Replaced a publication',
-  'publication.withdraw': 'Withdrew a publication'
+  'publication.withdraw': 'Withdrew a publication',
+  'farm.erase': 'Erased a farm\'s personal data',
+  'round.export_identifying': 'Exported visits with farm codes and exact positions',
+  'retention.purge': 'Purged personal data past its retention period',
+  'privacy.settings': 'Changed the personal data rules'
 }
 
 /** An action as a sentence start; an action added later without words reads as its own name in plain letters. */
@@ -54,7 +58,8 @@ export const AUDIT_RECORD_TYPES: Record<string, string> = {
   village: 'Village',
   visit: 'Visit',
   model_run: 'Model fit',
-  publication: 'Publication'
+  publication: 'Publication',
+  erasure: 'Erasure'
 }
 
 /**

@@ -25,6 +25,7 @@ export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/review', label: 'Review', roles: ['coordinator'] },
   { to: '/models', label: 'Models', roles: ['coordinator'] },
   { to: '/overview', label: 'Adoption map', roles: ['coordinator', 'funder'] },
+  { to: '/privacy', label: 'Farmers\' data', roles: ['coordinator'] },
   { to: '/people', label: 'People', roles: ['admin'] },
   { to: '/audit', label: 'Audit log', roles: ['admin'] },
   { to: '/settings', label: 'Settings', roles: ['admin'] },

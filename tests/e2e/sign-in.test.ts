@@ -14,7 +14,7 @@ afterAll(closeBrowser)
 
 const EXPECTED_NAV: Record<string, string[]> = {
   admin: ['Home', 'People', 'Audit log', 'Settings', 'Outbox'],
-  coordinator: ['Home', 'Rounds', 'Review', 'Models', 'Adoption map'],
+  coordinator: ['Home', 'Rounds', 'Review', 'Models', 'Adoption map', 'Farmers\' data'],
   enumerator: ['Home', 'Field work'],
   funder: ['Home', 'Adoption map']
 }

@@ -58,7 +58,12 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path:
   { method: 'GET', path: '/api/home/admin', roles: ['admin'] },
   { method: 'GET', path: '/api/overview/999999', roles: ['funder', 'coordinator'], ok: 404 },
   { method: 'GET', path: '/api/field/model?roundId=:round', roles: ['enumerator'] },
-  { method: 'GET', path: '/api/rounds/:round/export', roles: ['coordinator'] }
+  { method: 'GET', path: '/api/rounds/:round/export', roles: ['coordinator'] },
+  { method: 'GET', path: '/api/privacy/farm', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/privacy/erasures', roles: ['coordinator'], ok: 400 },
+  { method: 'GET', path: '/api/settings/privacy', roles: ['admin'] },
+  { method: 'PUT', path: '/api/settings/privacy', roles: ['admin'], ok: 400 },
+  { method: 'POST', path: '/api/settings/privacy/purge', roles: ['admin'] }
 ]
 
 // Public routes answer without a session (here 400 to an empty body), never 401.

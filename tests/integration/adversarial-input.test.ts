@@ -211,6 +211,11 @@ const CASES: Record<string, Case> = {
   'settings funder domain that is a script URL': { as: 'admin', method: 'PUT', path: () => '/api/settings', body: settings({ funderOrganisations: [{ name: 'Fund', emailDomain: 'javascript:alert(1)' }] }), status: 400 },
   'settings with 51 funders': { as: 'admin', method: 'PUT', path: () => '/api/settings', body: settings({ funderOrganisations: Array.from({ length: 51 }, (_, i) => ({ name: `F${i}`, emailDomain: `f${i}.example` })) }), status: 400 },
   'settings nested 3,000 deep': { as: 'admin', method: 'PUT', path: () => '/api/settings', body: settings({ funderOrganisations: nested(3000) }), status: 413 },
+  'erasure reason with NUL': { as: 'coordinator', method: 'POST', path: () => '/api/privacy/erasures', body: () => ({ farmCode: 'F-0001', reason: `Consent withdrawn${NUL}` }), status: 400 },
+  'erasure of a farm code with a formula': { as: 'coordinator', method: 'POST', path: () => '/api/privacy/erasures', body: () => ({ farmCode: '=cmd|x', reason: 'Consent withdrawn' }), status: 400 },
+  'erasure reason of 10,000 characters': { as: 'coordinator', method: 'POST', path: () => '/api/privacy/erasures', body: () => ({ farmCode: 'F-0001', reason: BIG }), status: 400 },
+  'retention days as text': { as: 'admin', method: 'PUT', path: () => '/api/settings/privacy', body: () => ({ keepAnswersAfterErasure: false, retentionDays: { photos: '30', gps: null, names: null } }), status: 400 },
+  'retention of a million days': { as: 'admin', method: 'PUT', path: () => '/api/settings/privacy', body: () => ({ keepAnswersAfterErasure: false, retentionDays: { photos: 1e6, gps: null, names: null } }), status: 400 },
   'new password with NUL': { as: 'funder', method: 'POST', path: () => '/api/me/password', body: () => ({ currentPassword: 'whatever-it-is', newPassword: `long enough${NUL}password` }), status: 400 },
   // Models
   'scenario name with NUL': { as: 'coordinator', method: 'POST', path: () => '/api/models/999999/scenarios', body: () => ({ scenarios: [{ name: `All${NUL}`, covariate: 'farm_size_ha', shift: 1 }] }), status: 400 },
@@ -326,7 +331,8 @@ describe('spreadsheet formulas in stored text come out neutralised in every CSV'
     // The rejected row (a farm size below 0) keeps its negative number, and its formula cell is neutralised.
     expect(imported.body.rejectedCsv.split('\n')[1]).toMatch(/^CSV-3,[^,]+,no,-1,4,'\+cmd\|' \/C calc'!A0,/)
 
-    const exported = await coordinator.get<string>(`/api/rounds/${ctx.round.roundId}/export?part=visits`)
+    // The identifying export carries free-text answers (the pseudonymised one leaves them out).
+    const exported = await coordinator.get<string>(`/api/rounds/${ctx.round.roundId}/export?part=visits&identifying=1&reason=${encodeURIComponent('Checking formula cells in text answers')}`)
     expect(exported.status).toBe(200)
     const cells = exported.body.split('\n').filter(l => l.startsWith('"') || /^[0-9a-f-]{36},/.test(l)).join('\n')
     expect(cells).toContain(`"'${formula.replace(/"/g, '""')}"`)

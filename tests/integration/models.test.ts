@@ -289,7 +289,7 @@ describe('round exports for coordinators', () => {
     rectangular(String(visits.body))
     const header = lines[0]!.split(',')
     expect(header[0]).toBe('visit_id')
-    expect(header).toEqual(expect.arrayContaining(['village_code', 'farm_code', 'adopted', 'dealer_distance_km', 'extension_contact']))
+    expect(header).toEqual(expect.arrayContaining(['village_code', 'farm_pseudonym', 'adopted', 'dealer_distance_km', 'extension_contact']))
     const dataRows = lines.slice(1)
     expect(dataRows).toHaveLength(await Visit.count({ where: { roundId, reviewState: 'accepted' } }))
     expect(dataRows.every(r => /,(yes|no),/.test(r))).toBe(true)

@@ -43,7 +43,7 @@ describe('client navigation mirrors the roles', () => {
     expect(navFor('admin').map(n => n.to)).toEqual(['/', '/people', '/audit', '/settings', '/outbox'])
     expect(navFor('funder').map(n => n.to)).toEqual(['/', '/overview'])
     expect(navFor('enumerator').map(n => n.to)).toEqual(['/', '/field'])
-    expect(navFor('coordinator').map(n => n.to)).toEqual(['/', '/rounds', '/review', '/models', '/overview'])
+    expect(navFor('coordinator').map(n => n.to)).toEqual(['/', '/rounds', '/review', '/models', '/overview', '/privacy'])
   })
 
   it('puts the own-password page in every role\'s user menu, not in the main bar', () => {

@@ -10,6 +10,7 @@ import * as m0040 from './0040-data-version'
 import * as m0050 from './0050-round-visit-target'
 import * as m0060 from './0060-email-per-organisation'
 import * as m0070 from './0070-device-ids-per-enumerator'
+import * as m0150 from './0150-personal-data'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
 // Add a new file as NNNN-what-it-does.ts and append it here.
@@ -25,5 +26,6 @@ export const MIGRATIONS = [
   { name: '0040-data-version', ...m0040 },
   { name: '0050-round-visit-target', ...m0050 },
   { name: '0060-email-per-organisation', ...m0060 },
-  { name: '0070-device-ids-per-enumerator', ...m0070 }
+  { name: '0070-device-ids-per-enumerator', ...m0070 },
+  { name: '0150-personal-data', ...m0150 }
 ]

@@ -1,3 +1,4 @@
+import { DEFAULT_PRIVACY_SETTINGS, type PrivacySettings } from '../../../shared/utils/schemas/privacy'
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize'
 
 export interface FunderOrganisation {
@@ -12,17 +13,29 @@ export interface OrganisationSettings {
   defaultClusterVariable: string
   /** The funder organisations that may see published rounds; an empty list lets no funder see them. */
   funderOrganisations: FunderOrganisation[]
+  /** Farmers' personal data: retention after a round closes, and what an erasure keeps. */
+  privacy: PrivacySettings
 }
 
 export const DEFAULT_ORGANISATION_SETTINGS: OrganisationSettings = {
   minVisitsForFunders: 5,
   defaultClusterVariable: 'village',
-  funderOrganisations: []
+  funderOrganisations: [],
+  privacy: DEFAULT_PRIVACY_SETTINGS
 }
 
 /** Settings as stored, completed with the defaults of keys added after the row was written. */
 export function settingsOf(organisation: Organisation): OrganisationSettings {
-  return { ...DEFAULT_ORGANISATION_SETTINGS, ...organisation.settings }
+  const stored = organisation.settings
+  return {
+    ...DEFAULT_ORGANISATION_SETTINGS,
+    ...stored,
+    privacy: {
+      ...DEFAULT_PRIVACY_SETTINGS,
+      ...stored?.privacy,
+      retentionDays: { ...DEFAULT_PRIVACY_SETTINGS.retentionDays, ...stored?.privacy?.retentionDays }
+    }
+  }
 }
 
 export class Organisation extends Model<InferAttributes<Organisation>, InferCreationAttributes<Organisation>> {

@@ -16,6 +16,8 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
   declare dataVersion: CreationOptional<number>
   /** Visits wanted per village; villages below it are marked on the map. Null: no target set. */
   declare targetVisitsPerVillage: CreationOptional<number | null>
+  /** When the round was last closed; retention periods count from it. Null while draft or open. */
+  declare closedAt: CreationOptional<Date | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -30,6 +32,7 @@ export class Round extends Model<InferAttributes<Round>, InferCreationAttributes
       currentVersionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       dataVersion: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
       targetVisitsPerVillage: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: true },
+      closedAt: { type: DataTypes.DATE(3), allowNull: true },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'rounds' })

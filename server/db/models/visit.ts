@@ -41,6 +41,8 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
   /** 'import' for past survey data loaded from a CSV file (then importId names the import). */
   declare source: CreationOptional<VisitSource>
   declare importId: CreationOptional<number | null>
+  /** Set when the retention purge replaced the farm code by its pseudonym and dropped free-text answers. */
+  declare namesPurgedAt: CreationOptional<Date | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -70,6 +72,7 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
       version: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 1 },
       source: { type: DataTypes.ENUM(...VISIT_SOURCES), allowNull: false, defaultValue: 'device' },
       importId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+      namesPurgedAt: { type: DataTypes.DATE(3), allowNull: true },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'visits' })

@@ -113,7 +113,8 @@ export const syncBatchSchema = z.object({
   visits: z.array(z.unknown()).min(1, 'Send at least one visit').max(SYNC_BATCH_MAX, `Send at most ${SYNC_BATCH_MAX} visits per batch`)
 })
 
-export type SyncStatus = 'stored' | 'duplicate' | 'rejected' | 'conflict'
+/** erased: the farm's personal data was erased at the farmer's request; the tablet deletes its copy and photos. */
+export type SyncStatus = 'stored' | 'duplicate' | 'rejected' | 'conflict' | 'erased'
 
 export interface SyncResult {
   id: string | null

@@ -1,0 +1,183 @@
+import { createHash, randomBytes } from 'node:crypto'
+import { QueryTypes, type Transaction } from 'sequelize'
+import type { PersonalDataKind } from '#shared/utils/schemas/privacy'
+import { QuestionnaireVersion } from '../db/models'
+import { database } from '../db/connection'
+import { pseudonymOf } from './pseudonyms'
+
+// EVERY place that holds a farmer's personal data, in one list. Erasure on request (erasure.ts) and the retention
+// purge (retention.ts) both walk this list, so a new kind of personal data (a sample list with farm heads' names,
+// say) is covered by adding one entry here: its label, its retention kind, how to erase one farm's rows and how to
+// purge a closed round's rows. Photos' bytes live in the object store: sources return the keys of the objects to
+// delete and the callers delete them (before the rows, so a failure leaves rows a retry can find).
+
+export interface FarmScope {
+  organisationId: number
+  /** The farm's code as it is stored (matched without regard to case) and the ids of its visits. */
+  farmCode: string
+  visitIds: string[]
+  /** What replaces the farm code: a random id that nothing links back to the farm. */
+  opaqueId: string
+  transaction: Transaction
+}
+
+export interface RoundScope {
+  organisationId: number
+  roundIds: number[]
+  transaction: Transaction
+  now: Date
+}
+
+export interface SourceResult {
+  /** Rows (or answers, positions, photos) changed or removed. */
+  count: number
+  /** Object-store keys that must be deleted with the rows. */
+  objectKeys?: string[]
+}
+
+export interface PersonalDataSource {
+  /** Plain words for the settings page, the erasure summary and the purge report. */
+  label: string
+  kind: PersonalDataKind
+  /** Lists the object keys the erasure will delete (read before the transaction; see the note above). */
+  farmObjectKeys?: (scope: Omit<FarmScope, 'transaction' | 'opaqueId'>) => Promise<string[]>
+  eraseFarm: (scope: FarmScope) => Promise<SourceResult>
+  /** How many items this source still holds per round, for the given (closed) rounds. */
+  heldPerRound?: (organisationId: number, roundIds: number[]) => Promise<Map<number, number>>
+  roundObjectKeys?: (organisationId: number, roundIds: number[]) => Promise<string[]>
+  purgeRounds?: (scope: RoundScope) => Promise<SourceResult>
+}
+
+const select = <T extends object>(sql: string, replacements: unknown[], transaction?: Transaction) =>
+  database().query<T>(sql, { replacements, type: QueryTypes.SELECT, transaction })
+
+async function update(sql: string, replacements: unknown[], transaction: Transaction): Promise<number> {
+  const [, affected] = await database().query(sql, { replacements, type: QueryTypes.UPDATE, transaction }) as unknown as [unknown, number]
+  return Number(affected ?? 0)
+}
+
+function perRound(rows: Array<{ roundId: number, n: number | string }>): Map<number, number> {
+  return new Map(rows.map(r => [Number(r.roundId), Number(r.n)]))
+}
+
+/** The keys of free-text questions per questionnaire version: free text may hold names, places, anything. */
+async function textKeysByVersion(versionIds: number[], transaction?: Transaction): Promise<Map<number, string[]>> {
+  const versions = await QuestionnaireVersion.findAll({ where: { id: [...new Set(versionIds)] }, attributes: ['id', 'definition'], transaction })
+  return new Map(versions.map(v => [v.id, v.definition.questions.filter(q => q.type === 'text').map(q => q.key)]))
+}
+
+/** Removes the free-text answers of the given visits, one statement per questionnaire version. */
+async function dropTextAnswers(visits: Array<{ id: string, questionnaireVersionId: number }>, transaction: Transaction): Promise<number> {
+  const keys = await textKeysByVersion(visits.map(v => v.questionnaireVersionId), transaction)
+  let count = 0
+  for (const [versionId, textKeys] of keys) {
+    if (!textKeys.length) continue
+    const ids = visits.filter(v => v.questionnaireVersionId === versionId).map(v => v.id)
+    const paths = textKeys.map(k => `$.${k}`)
+    // Question keys are [a-z][a-z0-9_]*, so each path is a plain member path.
+    const held = await select<{ n: number }>(`SELECT COUNT(*) AS n FROM visits WHERE id IN (?) AND (${paths.map(() => 'JSON_EXISTS(answers, ?)').join(' OR ')})`, [ids, ...paths], transaction)
+    count += Number(held[0]?.n ?? 0)
+    await update(`UPDATE visits SET answers = JSON_REMOVE(answers, ${paths.map(() => '?').join(', ')}) WHERE id IN (?)`, [...paths, ids], transaction)
+  }
+  return count
+}
+
+const visitPhotos: PersonalDataSource = {
+  label: 'Photos of the farm (the files in storage and their records)',
+  kind: 'photos',
+  farmObjectKeys: async ({ visitIds }) => visitIds.length
+    ? (await select<{ objectKey: string }>('SELECT object_key AS objectKey FROM photos WHERE visit_id IN (?)', [visitIds])).map(r => r.objectKey)
+    : [],
+  eraseFarm: async ({ visitIds, transaction }) => {
+    if (!visitIds.length) return { count: 0 }
+    const rows = await select<{ objectKey: string }>('SELECT object_key AS objectKey FROM photos WHERE visit_id IN (?) FOR UPDATE', [visitIds], transaction)
+    await update('DELETE FROM photos WHERE visit_id IN (?)', [visitIds], transaction)
+    return { count: rows.length, objectKeys: rows.map(r => r.objectKey) }
+  },
+  heldPerRound: async (organisationId, roundIds) => perRound(await select(`SELECT v.round_id AS roundId, COUNT(*) AS n FROM photos p
+    JOIN visits v ON v.id = p.visit_id WHERE v.organisation_id = ? AND v.round_id IN (?) GROUP BY v.round_id`, [organisationId, roundIds])),
+  roundObjectKeys: async (organisationId, roundIds) => (await select<{ objectKey: string }>(`SELECT p.object_key AS objectKey FROM photos p
+    JOIN visits v ON v.id = p.visit_id WHERE v.organisation_id = ? AND v.round_id IN (?)`, [organisationId, roundIds])).map(r => r.objectKey),
+  purgeRounds: async ({ organisationId, roundIds, transaction }) => {
+    const rows = await select<{ objectKey: string }>(`SELECT p.object_key AS objectKey FROM photos p JOIN visits v ON v.id = p.visit_id
+      WHERE v.organisation_id = ? AND v.round_id IN (?) FOR UPDATE`, [organisationId, roundIds], transaction)
+    await update('DELETE p FROM photos p JOIN visits v ON v.id = p.visit_id WHERE v.organisation_id = ? AND v.round_id IN (?)', [organisationId, roundIds], transaction)
+    return { count: rows.length, objectKeys: rows.map(r => r.objectKey) }
+  }
+}
+
+const HAS_POSITION = '(lat IS NOT NULL OR lon IS NOT NULL OR accuracy_m IS NOT NULL OR manual_location_reason IS NOT NULL)'
+const CLEAR_POSITION = 'lat = NULL, lon = NULL, accuracy_m = NULL, manual_location_reason = NULL'
+
+const visitPositions: PersonalDataSource = {
+  label: 'Where the farm is: GPS points, typed positions and the reasons given for no GPS fix',
+  kind: 'gps',
+  eraseFarm: async ({ visitIds, transaction }) => visitIds.length
+    ? { count: await update(`UPDATE visits SET ${CLEAR_POSITION} WHERE id IN (?) AND ${HAS_POSITION}`, [visitIds], transaction) }
+    : { count: 0 },
+  heldPerRound: async (organisationId, roundIds) => perRound(await select(`SELECT round_id AS roundId, COUNT(*) AS n FROM visits
+    WHERE organisation_id = ? AND round_id IN (?) AND ${HAS_POSITION} GROUP BY round_id`, [organisationId, roundIds])),
+  purgeRounds: async ({ organisationId, roundIds, transaction }) => ({
+    count: await update(`UPDATE visits SET ${CLEAR_POSITION} WHERE organisation_id = ? AND round_id IN (?) AND ${HAS_POSITION}`, [organisationId, roundIds], transaction)
+  })
+}
+
+// The device hash is a SHA-256 of the whole record, farm code included: it is replaced too, or a guessed farm code
+// could be checked against it. A later resend of the old record is recognised by the erasure's farm key instead.
+const randomHash = () => createHash('sha256').update(randomBytes(32)).digest('hex')
+
+const visitIdentifiers: PersonalDataSource = {
+  label: 'Who the farm is: the farm code, free-text answers and the reviewers\' notes on its visits',
+  kind: 'names',
+  eraseFarm: async ({ visitIds, opaqueId, transaction }) => {
+    if (!visitIds.length) return { count: 0 }
+    const visits = await select<{ id: string, questionnaireVersionId: number }>('SELECT id, questionnaire_version_id AS questionnaireVersionId FROM visits WHERE id IN (?)', [visitIds], transaction)
+    const texts = await dropTextAnswers(visits, transaction)
+    for (const v of visits) await update('UPDATE visits SET farm_code = ?, device_hash = ?, review_reason = NULL, names_purged_at = NOW(3) WHERE id = ?', [opaqueId, randomHash(), v.id], transaction)
+    return { count: visits.length + texts }
+  },
+  heldPerRound: async (organisationId, roundIds) => perRound(await select(`SELECT round_id AS roundId, COUNT(*) AS n FROM visits
+    WHERE organisation_id = ? AND round_id IN (?) AND names_purged_at IS NULL GROUP BY round_id`, [organisationId, roundIds])),
+  purgeRounds: async ({ organisationId, roundIds, transaction, now }) => {
+    const visits = await select<{ id: string, farmCode: string, questionnaireVersionId: number }>(`SELECT id, farm_code AS farmCode,
+      questionnaire_version_id AS questionnaireVersionId FROM visits WHERE organisation_id = ? AND round_id IN (?) AND names_purged_at IS NULL
+      ORDER BY id FOR UPDATE`, [organisationId, roundIds], transaction)
+    if (!visits.length) return { count: 0 }
+    await dropTextAnswers(visits, transaction)
+    // The pseudonym the exports use: an analyst's earlier pseudonymised files still match the purged rows.
+    for (const v of visits) {
+      await update('UPDATE visits SET farm_code = ?, device_hash = ?, review_reason = NULL, names_purged_at = ? WHERE id = ?', [pseudonymOf(organisationId, v.farmCode), randomHash(), now, v.id], transaction)
+    }
+    return { count: visits.length }
+  }
+}
+
+// Audit entries of a visit keep what a coordinator corrected (old and new answers, free text included) and the
+// reasons given: their details are replaced by a note; who did what and when stays.
+const visitAuditDetails: PersonalDataSource = {
+  label: 'Answers and reasons quoted in the audit log entries of the farm\'s visits',
+  kind: 'names',
+  eraseFarm: async ({ organisationId, visitIds, transaction }) => visitIds.length
+    ? { count: await update(`UPDATE audit_entries SET details = JSON_OBJECT('removed', 'personal data erased') WHERE organisation_id = ?
+        AND entity_type = 'visit' AND entity_id IN (?) AND details IS NOT NULL`, [organisationId, visitIds], transaction) }
+    : { count: 0 },
+  purgeRounds: async ({ organisationId, roundIds, transaction }) => ({
+    count: await update(`UPDATE audit_entries a JOIN visits v ON v.id = a.entity_id AND a.entity_type = 'visit'
+      SET a.details = JSON_OBJECT('removed', 'retention period ended')
+      WHERE a.organisation_id = ? AND v.round_id IN (?) AND a.details IS NOT NULL AND JSON_VALUE(a.details, '$.removed') IS NULL`, [organisationId, roundIds], transaction)
+  })
+}
+
+// Mail telling an enumerator that a visit was sent back names the farm code in its subject and text.
+const sentBackMail: PersonalDataSource = {
+  label: 'Messages to enumerators that name the farm',
+  kind: 'names',
+  eraseFarm: async ({ organisationId, farmCode, transaction }) => ({
+    count: await update(`UPDATE mail_messages SET subject = 'A visit was sent back', text_body = '(removed: personal data erased)', html_body = NULL
+      WHERE organisation_id = ? AND (LOCATE(CONCAT('Visit ', ?, ' in '), subject) > 0 OR LOCATE(CONCAT('farm ', ?, ' in '), text_body) > 0)`,
+    [organisationId, farmCode, farmCode], transaction)
+  })
+}
+
+/** Add a new holder of farmers' personal data here (and nowhere else). */
+export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, visitIdentifiers, visitAuditDetails, sentBackMail]
