@@ -6,8 +6,10 @@ declare module '@tanstack/vue-table' {
   interface ColumnMeta<TData extends RowData, TValue> {
     align?: 'right'
     mono?: boolean
+    /** Kept on one line: a range like "-0.106 to -0.047" must not break in the middle. */
+    nowrap?: boolean
   }
 }
 
-/** The meta of a column of figures: aligned right, in the mono font. */
-export const FIGURES = { align: 'right', mono: true } as const
+/** The meta of a column of figures: aligned right, in the mono font, on one line. */
+export const FIGURES = { align: 'right', mono: true, nowrap: true } as const
