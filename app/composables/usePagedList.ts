@@ -1,10 +1,15 @@
 import type { Page } from '#shared/types/listing'
 
-/** A server-paginated list whose filters live in the URL, so a filtered view can be bookmarked or shared. */
-export function usePagedList<T>(url: string, filterKeys: readonly string[]) {
+/**
+ * A server-paginated list whose filters live in the URL, so a filtered view can be bookmarked or shared.
+ * `defaults` fill filters the URL does not name; they must be known before the first fetch, so that the server's
+ * render and the browser's first render read the same list (setting a filter afterwards renders one list on the
+ * server and hydrates another).
+ */
+export function usePagedList<T>(url: string, filterKeys: readonly string[], defaults: Record<string, string> = {}) {
   const route = useRoute()
   const router = useRouter()
-  const filters = reactive(Object.fromEntries(filterKeys.map(key => [key, String(route.query[key] ?? '')])))
+  const filters = reactive(Object.fromEntries(filterKeys.map(key => [key, String(route.query[key] ?? defaults[key] ?? '')])))
   const page = ref(Number(route.query.page ?? 1) || 1)
 
   const query = computed(() => {

@@ -1,9 +1,16 @@
 import type { SettingsView } from '#shared/types/team'
 
-/** The organisation settings form: loads, checks with the shared schema, saves, and shows what the server said. */
-export function useSettingsForm() {
-  const { data, error, refresh } = useFetch<SettingsView>('/api/settings')
-  const form = reactive<SettingsView>({ name: '', defaultClusterVariable: '', minVisitsForFunders: 5, funderOrganisations: [] })
+/**
+ * The organisation settings form: loads, checks with the shared schema, saves, and shows what the server said.
+ * Awaited, so the form is filled from the settings before the first render, on the server and in the browser
+ * alike: filling it from a watcher left the server's HTML empty while the browser's first render had the values,
+ * a hydration mismatch on every visit.
+ */
+export async function useSettingsForm() {
+  const { data, error, refresh } = await useFetch<SettingsView>('/api/settings')
+  const form = reactive<SettingsView>(data.value
+    ? structuredClone(toRaw(data.value))
+    : { name: '', defaultClusterVariable: '', minVisitsForFunders: 5, funderOrganisations: [] })
   const fieldErrors = ref<FieldErrors>({})
   const formError = ref('')
   const saved = ref(false)
@@ -11,7 +18,7 @@ export function useSettingsForm() {
 
   watch(data, (value) => {
     if (value) Object.assign(form, structuredClone(toRaw(value)))
-  }, { immediate: true })
+  })
 
   async function save() {
     saved.value = false

@@ -37,3 +37,20 @@ export function wholeNumber(value: number | null | undefined): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return '—'
   return Math.round(value).toLocaleString('en-GB')
 }
+
+/**
+ * A moment as "2 Dec 2026, 14:05 UTC": one locale and UTC, so a server-rendered page and the browser that takes it
+ * over write the same text (the browser's own time zone or language would be a hydration mismatch).
+ */
+export function momentOf(iso: string | Date | null | undefined): string {
+  if (!iso) return '—'
+  const at = new Date(iso)
+  if (Number.isNaN(at.getTime())) return '—'
+  return `${at.toLocaleString('en-GB', { day: 'numeric', month: 'short', year: 'numeric', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: 'UTC' })} UTC`
+}
+
+/** A time of day as "14:05 UTC", for the same reason. */
+export function clockOf(iso: string | null | undefined): string {
+  if (!iso) return ''
+  return `${new Date(iso).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: 'UTC' })} UTC`
+}

@@ -4,11 +4,14 @@ import type { AuditRow, Page } from '#shared/types/listing'
 import { AuditEntry } from '../db/models'
 import { AUDIT_RECORD_TYPES, auditActionLabel, csvField } from '#shared/utils/audit-words'
 import { correctionQuestionsOf, detailLines, recordNamesOf } from './audit-details'
+import { auditSearchWhere } from './audit-search'
 
 /** The organisation's audit entries, newest first. Failed sign-ins for unknown e-mails have no organisation. */
-function whereOf(organisationId: number, query: Omit<AuditQuery, 'page' | 'pageSize'>) {
+async function whereOf(organisationId: number, query: Omit<AuditQuery, 'page' | 'pageSize'>) {
   const where: WhereOptions<AuditEntry> = { organisationId }
-  if (query.action) Object.assign(where, { action: { [Op.startsWith]: query.action } })
+  // The action list offers whole actions: "signin" must not also bring "signin.failed".
+  if (query.action) Object.assign(where, { action: query.action })
+  if (query.q) Object.assign(where, await auditSearchWhere(organisationId, query.q))
   if (query.actor) Object.assign(where, { actorEmail: { [Op.substring]: query.actor } })
   if (query.entity) Object.assign(where, { entityType: query.entity })
   // Days are whole UTC days: from 00:00 of `from` up to, not including, 00:00 after `to`.
@@ -45,7 +48,7 @@ export const AUDIT_EXPORT_MAX = 20_000
 
 /** The filtered entries as one CSV table (header on row 1), newest first, at most AUDIT_EXPORT_MAX rows. */
 export async function auditCsv(organisationId: number, query: Omit<AuditQuery, 'page' | 'pageSize'>): Promise<string> {
-  const entries = await AuditEntry.findAll({ where: whereOf(organisationId, query), order: [['id', 'DESC']], limit: AUDIT_EXPORT_MAX })
+  const entries = await AuditEntry.findAll({ where: await whereOf(organisationId, query), order: [['id', 'DESC']], limit: AUDIT_EXPORT_MAX })
   const rows = await rowsOf(organisationId, entries)
   const lines = [['When (UTC)', 'Who', 'Action', 'Record', 'Details', 'From address'].map(csvField).join(',')]
   for (const r of rows) {
@@ -57,7 +60,7 @@ export async function auditCsv(organisationId: number, query: Omit<AuditQuery, '
 /** The organisation's audit entries, newest first. Failed sign-ins for unknown e-mails have no organisation. */
 export async function listAudit(organisationId: number, query: AuditQuery): Promise<Page<AuditRow>> {
   const { rows, count } = await AuditEntry.findAndCountAll({
-    where: whereOf(organisationId, query),
+    where: await whereOf(organisationId, query),
     order: [['id', 'DESC']],
     limit: query.pageSize,
     offset: (query.page - 1) * query.pageSize

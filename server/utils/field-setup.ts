@@ -1,5 +1,5 @@
 import { Op } from 'sequelize'
-import type { FieldSetup, VisitStates } from '#shared/types/field'
+import type { FieldSetup, FieldVillage, VisitStates } from '#shared/types/field'
 import { questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit } from '../db/models'
 import { erasedVisitIdsFor } from './erasure'
@@ -30,7 +30,8 @@ export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
       currentVersionId: r.currentVersionId!,
       villageIds: mine.filter(a => a.roundId === r.id).map(a => a.villageId)
     })),
-    villages: villages.map(v => ({ id: v.id, code: v.code, name: v.name, district: v.district, centreLat: v.centreLat, centreLon: v.centreLon })),
+    // The boundary travels with the setup so the position picker can draw the village with no network and no tiles.
+    villages: villages.map(v => ({ id: v.id, code: v.code, name: v.name, district: v.district, centreLat: v.centreLat, centreLon: v.centreLon, boundary: (v.boundary as FieldVillage['boundary']) ?? null })),
     questionnaires: versions.map(v => ({ id: v.id, roundId: v.roundId, number: v.number, definition: questionnaireDefinitionSchema.parse(v.definition) })),
     fetchedAt: new Date().toISOString()
   }

@@ -1,3 +1,4 @@
+import type { MultiPolygon, Polygon } from 'geojson'
 import type { QuestionnaireVersionDto } from '../utils/schemas/questionnaire'
 import type { ServerVisit } from '../utils/schemas/visit'
 
@@ -8,6 +9,8 @@ export interface FieldVillage {
   district: string
   centreLat: number
   centreLon: number
+  /** The uploaded outline (GeoJSON Polygon or MultiPolygon), for the tablet's position picker. Absent in setups cached before it was sent. */
+  boundary?: Polygon | MultiPolygon | null
 }
 
 export interface FieldRound {

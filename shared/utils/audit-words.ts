@@ -62,6 +62,20 @@ export const AUDIT_RECORD_TYPES: Record<string, string> = {
   erasure: 'Erasure'
 }
 
+const plain = (key: string) => key.replace(/[._]/g, ' ')
+
+/** The actions whose words (or name) contain the typed text, any case: "role" finds "Changed a role". */
+export function auditActionsMatching(text: string): string[] {
+  const t = text.toLowerCase()
+  return Object.entries(ACTIONS).filter(([key, label]) => label.toLowerCase().includes(t) || plain(key).includes(t)).map(([key]) => key)
+}
+
+/** The record types whose name contains the typed text, any case: "fit" finds model fits. */
+export function auditRecordTypesMatching(text: string): string[] {
+  const t = text.toLowerCase()
+  return Object.entries(AUDIT_RECORD_TYPES).filter(([key, label]) => label.toLowerCase().includes(t) || plain(key).includes(t)).map(([key]) => key)
+}
+
 /**
  * A spreadsheet reads a cell starting with = + - @, a tab or a carriage return as a formula: such cells get a
  * leading apostrophe. Written small on purpose, to be swapped for the shared export helper once it exists.

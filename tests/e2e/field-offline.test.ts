@@ -1,26 +1,13 @@
 import path from 'node:path'
-import type { Browser, Page } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import type { Page } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
 import { Assignment, Photo, User, Village, Visit } from '../../server/db/models'
-import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
+import { SCREENSHOTS, newTabletContext, waitForApp } from '../support/browser'
 import { objectSize } from '../support/object-store'
-import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { poll, useBrowser } from '../support/pages'
+import { DEMO, demoUser, freshClient } from '../support/server'
 
-let browser: Browser
-
-// Page loads and syncs take a moment on a busy machine: wait up to 10 s unless told otherwise.
-const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
-
-beforeAll(async () => {
-  baseUrl()
-  testDatabase()
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await closeBrowser()
-  await closeTestDatabase()
-})
+const opened = useBrowser()
 
 // Answers for every question of the demo questionnaire.
 const NUMBERS: Record<string, string> = { farm_size_ha: '2.4', household_size: '6', schooling_years: '7', age_head: '41', dealer_distance_km: '8.5', livestock_tlu: '1.2' }
@@ -71,7 +58,7 @@ describe('field capture on a tablet with no network', () => {
     const enumerator = await User.findOne({ where: { email: demoUser('enumerator').email } })
     const assignments = await Assignment.findAll({ where: { userId: enumerator!.id } })
     const villages = await Village.findAll({ where: { id: assignments.map(a => a.villageId) } })
-    const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
+    const context = await newTabletContext(opened.browser, { serviceWorkers: 'allow' })
     await context.grantPermissions(['geolocation'])
     await context.setGeolocation({ latitude: villages[0]!.centreLat, longitude: villages[0]!.centreLon, accuracy: 7 })
     let page = await context.newPage()
@@ -159,7 +146,7 @@ describe('field capture on a tablet with no network', () => {
   }, 180_000)
 
   it('shows both copies when a coordinator corrected a visit the tablet was editing, and lets the server copy win', async () => {
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     await context.grantPermissions(['geolocation'])
     await context.setGeolocation({ latitude: -13.4, longitude: 31.9, accuracy: 9 })
     const page = await context.newPage()

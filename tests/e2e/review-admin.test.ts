@@ -1,36 +1,16 @@
 import path from 'node:path'
-import type { Browser, Page } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { describe, expect, it } from 'vitest'
 import { User, Visit } from '../../server/db/models'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
+import { SCREENSHOTS, newTabletContext, waitForApp } from '../support/browser'
 import { watchConsole } from '../support/console'
-import { closeTestDatabase, testDatabase } from '../support/database'
 import { makeRound, makeVisit } from '../support/field'
-import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { poll, signInPage, useBrowser } from '../support/pages'
+import { demoUser, freshClient } from '../support/server'
 import { GOOD_PASSWORD, newPerson } from '../support/team'
 
-let browser: Browser
-const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
+const opened = useBrowser()
 
-beforeAll(async () => {
-  baseUrl()
-  testDatabase()
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await closeBrowser()
-  await closeTestDatabase()
-})
-
-async function signIn(page: Page, email: string, next: string, password = DEMO.password) {
-  await page.goto(`/signin?next=${encodeURIComponent(next)}`)
-  await waitForApp(page)
-  await page.getByLabel('E-mail').fill(email)
-  await page.getByLabel('Password', { exact: true }).fill(password)
-  await page.getByRole('button', { name: 'Sign in' }).click()
-  await page.waitForURL(url => url.pathname === next.split('?')[0])
-  await waitForApp(page)
-}
+const signIn = signInPage
 
 describe('review after the questionnaire changed', () => {
   it('shows a version-1 visit with its labels and units, corrects it, shows who changed what, and accepts the unflagged ones together', async () => {
@@ -56,7 +36,7 @@ describe('review after the questionnaire changed', () => {
     ] })
     expect(v2.status).toBe(200)
 
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     const problems = watchConsole(page)
     await signIn(page, demoUser('coordinator').email, `/review?roundId=${round.roundId}`)
@@ -113,10 +93,14 @@ describe('admin pages read as words', () => {
     const person = await newPerson(admin, 'enumerator')
     expect((await admin.request('PATCH', `/api/people/${person.userId}`, { role: 'coordinator' })).status).toBe(200)
 
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     const problems = watchConsole(page)
     await signIn(page, demoUser('admin').email, '/audit')
+    // "Find" takes words as a person types them, in any case and order.
+    await page.getByLabel('Find (a person, an action, a record)').fill('ROLE changed')
+    await poll(async () => [...new Set(await page.getByTestId('audit-row').locator('td:nth-child(3)').allInnerTexts())]).toEqual(['Changed a role'])
+    await page.getByLabel('Find (a person, an action, a record)').fill('')
     await page.getByLabel('What').selectOption({ label: 'Changed a role' })
     const row = page.getByTestId('audit-row').first()
     await poll(() => row.textContent()).toContain('Changed a role')
@@ -142,7 +126,7 @@ describe('admin pages read as words', () => {
     const admin = freshClient()
     await admin.signIn(demoUser('admin').email)
     const person = await newPerson(admin, 'coordinator')
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     await signIn(page, person.email, '/rounds', GOOD_PASSWORD)
     expect((await admin.request('PATCH', `/api/people/${person.userId}`, { active: false })).status).toBe(200)

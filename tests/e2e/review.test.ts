@@ -1,26 +1,12 @@
 import path from 'node:path'
-import type { Browser } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { describe, it } from 'vitest'
 import { User, Visit } from '../../server/db/models'
-import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
+import { SCREENSHOTS, newTabletContext, waitForApp } from '../support/browser'
 import { makeRound, makeVisit } from '../support/field'
-import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { poll, useBrowser } from '../support/pages'
+import { DEMO, demoUser, freshClient } from '../support/server'
 
-let browser: Browser
-
-// Page loads and syncs take a moment on a busy machine: wait up to 10 s unless told otherwise.
-const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
-
-beforeAll(async () => {
-  baseUrl()
-  testDatabase()
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await closeBrowser()
-  await closeTestDatabase()
-})
+const opened = useBrowser()
 
 describe('the coordinator reviews visits in the browser', () => {
   it('filters the table, opens a flagged visit, corrects it and accepts it', async () => {
@@ -34,7 +20,7 @@ describe('the coordinator reviews visits in the browser', () => {
     const fast = makeVisit(round, { farmCode: 'FAST-1', startedAt: started.toISOString(), savedAt: new Date(started.getTime() + 30_000).toISOString() })
     await enumerator.post('/api/sync/visits', { visits: [fast, makeVisit(round, { farmCode: 'CALM-1' }), makeVisit(round, { farmCode: 'CALM-2' })] })
 
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     await page.goto(`/signin?next=${encodeURIComponent(`/review?roundId=${round.roundId}`)}`)
     await waitForApp(page)

@@ -1,41 +1,22 @@
 import path from 'node:path'
-import type { Browser, Page } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import type { Page } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
 import { Round, User } from '../../server/db/models'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
+import { SCREENSHOTS, newTabletContext } from '../support/browser'
 import { watchConsole } from '../support/console'
-import { closeTestDatabase, testDatabase } from '../support/database'
 import { makeRound, makeVisit } from '../support/field'
-import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { poll, signInPage, useBrowser } from '../support/pages'
+import { demoUser, freshClient } from '../support/server'
 
-let browser: Browser
-const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
-
-beforeAll(async () => {
-  baseUrl()
-  testDatabase()
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await closeBrowser()
-  await closeTestDatabase()
-})
-
-async function signIn(page: Page, email: string, next: string) {
-  await page.goto(`/signin?next=${encodeURIComponent(next)}`)
-  await waitForApp(page)
-  await page.getByLabel('E-mail').fill(email)
-  await page.getByLabel('Password', { exact: true }).fill(DEMO.password)
-  await page.getByRole('button', { name: 'Sign in' }).click()
-  await page.waitForURL(url => url.pathname === next.split('?')[0])
-  await waitForApp(page)
-}
+// The closed round as the tablet sees it has its own file: field-closed-round.test.ts.
+const opened = useBrowser()
+const signIn = signInPage
 
 const dialog = (page: Page) => page.getByTestId('confirm-dialog')
 
 describe('rounds that do not trap anyone', () => {
   it('lists rounds in one sortable table, copies a questionnaire, and opens, closes and reopens a round after asking', async () => {
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     const problems = watchConsole(page)
     await signIn(page, demoUser('coordinator').email, '/rounds')
@@ -107,7 +88,7 @@ describe('rounds that do not trap anyone', () => {
     const round = await makeRound(coordinator, me!.id)
     await enumerator.post('/api/sync/visits', { visits: [makeVisit(round), makeVisit(round)] })
 
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     const problems = watchConsole(page)
     await signIn(page, demoUser('coordinator').email, `/rounds/${round.roundId}`)
@@ -126,70 +107,6 @@ describe('rounds that do not trap anyone', () => {
     expect(problems).toEqual([])
     await context.close()
   }, 90_000)
-
-  it('keeps a closed round\'s drafts and sent-back visits readable on the tablet, with no dead-end "Continue"', async () => {
-    const coordinator = freshClient()
-    await coordinator.signIn(demoUser('coordinator').email)
-    const me = await User.findOne({ where: { email: demoUser('enumerator').email } })
-    const round = await makeRound(coordinator, me!.id)
-
-    const context = await newTabletContext(browser)
-    await context.grantPermissions(['geolocation'])
-    await context.setGeolocation({ latitude: round.centre.lat + 0.001, longitude: round.centre.lon, accuracy: 8 })
-    const page = await context.newPage()
-    const problems = watchConsole(page)
-    await signIn(page, demoUser('enumerator').email, '/field')
-    await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
-    // One visit saved and synced, then sent back; one draft left on the tablet.
-    // The interview's order: consent first (that makes the draft), then the answers; "Saved" confirms.
-    await page.goto(`/field/visit?round=${round.roundId}&village=${round.assignedVillageId}`)
-    await page.getByRole('checkbox', { name: /informed consent/ }).check()
-    await page.waitForURL(/\/field\/visit\?id=/)
-    await page.getByLabel('Farm code *').fill('CLOSED-SENT')
-    await page.getByRole('button', { name: 'Record GPS position' }).click()
-    await poll(() => page.getByTestId('gps-fix').count()).toBe(1)
-    await page.locator('#q-farm_size_ha').fill('2')
-    await page.locator('#q-household_size').fill('5')
-    await page.locator('input[name="q-adopted"][value="true"]').check({ force: true })
-    await page.getByRole('button', { name: 'Save visit' }).click()
-    await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
-    await page.getByRole('link', { name: 'Back to field work' }).click()
-    await page.waitForURL(url => url.pathname === '/field')
-    await page.getByRole('button', { name: 'Sync now' }).click()
-    await poll(async () => (await coordinator.get<{ items: Array<{ id: string }> }>(`/api/review/visits?roundId=${round.roundId}`)).body.items.length, 20_000).toBe(1)
-    const sent = (await coordinator.get<{ items: Array<{ id: string }> }>(`/api/review/visits?roundId=${round.roundId}`)).body.items[0]!
-    expect((await coordinator.post(`/api/review/visits/${sent.id}`, { action: 'send_back', reason: 'Check the farm size' })).status).toBe(200)
-    await page.goto(`/field/visit?round=${round.roundId}&village=${round.assignedVillageId}`)
-    await page.getByRole('checkbox', { name: /informed consent/ }).check()
-    await page.waitForURL(/\/field\/visit\?id=/)
-    await page.getByLabel('Farm code *').fill('CLOSED-DRAFT')
-    await page.getByRole('link', { name: 'Keep as draft' }).click()
-    await page.waitForURL(url => url.pathname === '/field')
-
-    expect((await coordinator.request('PATCH', `/api/rounds/${round.roundId}`, { status: 'closed' })).status).toBe(200)
-    await page.getByRole('button', { name: 'Sync now' }).click()
-    const sentBack = page.locator('[data-testid="local-visit"]', { hasText: 'CLOSED-SENT' })
-    const draft = page.locator('[data-testid="local-visit"]', { hasText: 'CLOSED-DRAFT' })
-    await poll(() => sentBack.textContent(), 20_000).toContain('Sent back, but the round is closed: it can no longer be fixed')
-    await poll(() => draft.textContent(), 20_000).toContain('Not sent: the round is closed')
-    expect(await sentBack.getByRole('link').textContent()).toContain('Open')
-    expect(await sentBack.getByRole('link').textContent()).not.toContain('Continue')
-    await page.screenshot({ path: path.join(SCREENSHOTS, 'field-closed-round.png'), fullPage: true })
-    await sentBack.getByRole('link').click()
-    await poll(() => page.getByTestId('round-closed-notice').textContent()).toContain('ask them to reopen the round')
-    expect(await page.getByText('This visit is not on this tablet').count()).toBe(0)
-    expect(await page.locator('#q-farm_size_ha').isDisabled()).toBe(true)
-    await page.screenshot({ path: path.join(SCREENSHOTS, 'field-closed-visit.png'), fullPage: true })
-
-    // Reopening gives the visit back to the enumerator.
-    expect((await coordinator.request('PATCH', `/api/rounds/${round.roundId}`, { status: 'open' })).status).toBe(200)
-    await page.goto('/field')
-    await page.getByRole('button', { name: 'Sync now' }).click()
-    await poll(() => sentBack.textContent(), 20_000).toContain('Sent back')
-    await poll(() => sentBack.getByRole('link').textContent(), 20_000).toContain('Continue')
-    expect(problems).toEqual([])
-    await context.close()
-  }, 150_000)
 })
 
 describe('people: role changes and deactivation ask first', () => {
@@ -199,7 +116,7 @@ describe('people: role changes and deactivation ask first', () => {
     const email = `confirm-${Date.now().toString(36)}@example.org`
     expect((await admin.post('/api/people/invitations', { email, role: 'enumerator', name: 'Tamsin Okoro-Lind' })).status).toBe(201)
 
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     const problems = watchConsole(page)
     await signIn(page, demoUser('admin').email, '/people')

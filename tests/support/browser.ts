@@ -54,11 +54,14 @@ export async function closeBrowser() {
  * A fresh context posing as its own client address, so sign-in limits of one test never touch another.
  * The service worker is blocked unless a test asks for it: its precaching would only slow the other tests down.
  */
-export async function newTabletContext(b: Browser, { serviceWorkers = 'block' }: { serviceWorkers?: 'allow' | 'block' } = {}): Promise<BrowserContext> {
+export async function newTabletContext(b: Browser, { serviceWorkers = 'block', timezoneId, locale }: { serviceWorkers?: 'allow' | 'block', timezoneId?: string, locale?: string } = {}): Promise<BrowserContext> {
   const octet = () => 1 + Math.floor(Math.random() * 250)
   const context = await b.newContext({
     baseURL: process.env.FURROWCAST_TEST_URL,
     serviceWorkers,
+    // A browser far from the server's time zone and language: a page that formats dates by either would differ.
+    timezoneId,
+    locale,
     viewport: { width: 1180, height: 820 },
     extraHTTPHeaders: { 'x-forwarded-for': `172.${octet()}.${octet()}.${octet()}` }
   })

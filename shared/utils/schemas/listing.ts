@@ -24,6 +24,8 @@ const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD')
 export const auditQuerySchema = z.object({
   action: safeText(z.string().trim().max(64)).optional(),
   actor: safeText(z.string().trim().max(254)).optional(),
+  /** What a person types: words found in who did it, the action's words or the record's type and name (any case). */
+  q: safeText(z.string().trim().max(100)).optional(),
   entity: safeText(z.string().trim().max(64)).optional(),
   from: day,
   to: day,
