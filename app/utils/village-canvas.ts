@@ -1,4 +1,5 @@
 import L from 'leaflet'
+import { DiscRaster, rgbOf, type Rgb } from './disc-raster'
 
 /** One village as the canvas layer draws it: a circle at its centre, or its boundary rings where one was uploaded. */
 export interface VillageMark {
@@ -22,11 +23,14 @@ interface Options extends L.LayerOptions {
 }
 
 const OUTLINE = '#1b1d17'
+const INK = rgbOf(OUTLINE)
+const DASH: [number, number] = [5, 3]
 const CELL = 48
 
 /**
- * All the villages on one canvas, drawn in one pass: one path of circles per fill colour, so 20,000 villages cost a handful of
- * fill calls instead of 20,000 Leaflet vector objects (each with its own projection, bounds and event bookkeeping).
+ * All the villages on one canvas, drawn in one pass: circles stamped straight into one pixel buffer (disc-raster.ts),
+ * boundaries as canvas paths above them, so 20,000 villages cost one putImageData instead of 20,000 Leaflet vector
+ * objects (each with its own projection, bounds and event bookkeeping) or a canvas path the browser rasterises slowly.
  * Hover is hit-tested through a grid of 48-px cells built while drawing. Written by hand because Leaflet's own
  * canvas renderer keeps per-path state and redraws path by path; `npm run bench` times both side by side.
  * The container handling (padding, zoom animation by CSS transform) follows Leaflet's renderer.
@@ -47,6 +51,8 @@ export class VillageCanvasLayer extends L.Layer {
   private shapes = new Map<number, Float64Array[]>()
   private grid = new Map<number, number[]>()
   private hovered = -1
+  private image?: ImageData
+  private colours = new Map<string, Rgb>()
   private tip?: L.Tooltip
   drawnCount = 0
 
@@ -60,7 +66,9 @@ export class VillageCanvasLayer extends L.Layer {
     const canvas = this.canvas = document.createElement('canvas')
     canvas.className = 'leaflet-zoom-animated'
     canvas.style.pointerEvents = 'none'
-    this.ctx = canvas.getContext('2d')!
+    // A canvas kept in main memory: the layer writes its pixels from script (putImageData), which a GPU-backed
+    // canvas would upload on every draw.
+    this.ctx = canvas.getContext('2d', { willReadFrequently: true })!
     this.getPane()!.appendChild(canvas)
     this.tip = L.tooltip({ direction: 'top', offset: [0, -8], opacity: 0.95 })
     this.redraw(map)
@@ -142,9 +150,9 @@ export class VillageCanvasLayer extends L.Layer {
     const origin = map.getPixelOrigin()
     this.shapes.clear()
     this.grid.clear()
-    const byColour = new Map<string, number[]>()
+    const circles: number[] = []
+    const shapes: number[] = []
     const marked: number[] = []
-    let drawn = 0
     for (let i = 0; i < n; i++) {
       const m = this.marks[i]!
       const x = this.xs[i] = this.x0[i]! * factor - origin.x
@@ -164,59 +172,59 @@ export class VillageCanvasLayer extends L.Layer {
         this.shapes.set(i, rings)
       }
       if (right < min.x || left > max.x || bottom < min.y || top > max.y) continue
-      drawn++
-      const list = byColour.get(m.fill)
-      if (list) list.push(i)
-      else byColour.set(m.fill, [i])
+      if (m.rings) shapes.push(i)
+      else circles.push(i)
       if (m.marked) marked.push(i)
       this.index(i, left, top, right, bottom)
     }
+    // Circles (most villages) straight into pixels, then one putImageData; boundaries as canvas paths above them.
+    const canvas = this.canvas!
+    const ratio = window.devicePixelRatio || 1
+    if (!this.image || this.image.width !== canvas.width || this.image.height !== canvas.height) this.image = ctx.createImageData(canvas.width, canvas.height)
+    else this.image.data.fill(0)
+    const raster = new DiscRaster(this.image.data, canvas.width, canvas.height, ratio, INK)
+    const toDevice = (v: number, from: number) => (v - from) * ratio
+    for (const i of circles) raster.disc(toDevice(this.xs[i]!, min.x), toDevice(this.ys[i]!, min.y), this.marks[i]!.radius, this.rgb(this.marks[i]!.fill))
+    // Below target: a thick dark dashed ring just outside the village, readable on every class colour and without colour.
+    for (const i of marked) if (!this.shapes.has(i)) raster.dashedRing(toDevice(this.xs[i]!, min.x), toDevice(this.ys[i]!, min.y), this.marks[i]!.radius + 4, 3, DASH)
+    ctx.putImageData(this.image, 0, 0)
     ctx.lineWidth = 1
     ctx.strokeStyle = OUTLINE
-    for (const [fill, list] of byColour) {
-      ctx.fillStyle = fill
-      // Circles of one colour as one path, filled nonzero: overlapping circles stay filled (evenodd would punch
-      // holes where two overlap). Boundaries one by one, evenodd, so their holes stay holes.
+    for (const i of shapes) {
+      // One by one, evenodd, so a boundary's holes stay holes.
+      ctx.fillStyle = this.marks[i]!.fill
       ctx.beginPath()
-      for (const i of list) if (!this.shapes.has(i)) this.trace(ctx, i, 0)
-      ctx.fill('nonzero')
+      this.trace(ctx, i)
+      ctx.fill('evenodd')
       ctx.stroke()
-      for (const i of list) {
-        if (!this.shapes.has(i)) continue
-        ctx.beginPath()
-        this.trace(ctx, i, 0)
-        ctx.fill('evenodd')
+      if (this.marks[i]!.marked) {
+        ctx.lineWidth = 3
+        ctx.setLineDash(DASH)
         ctx.stroke()
+        ctx.setLineDash([])
+        ctx.lineWidth = 1
       }
     }
-    if (marked.length) {
-      // Below target: a thick dark ring just outside the village, readable on every class colour and without colour.
-      ctx.beginPath()
-      for (const i of marked) this.trace(ctx, i, 4)
-      ctx.lineWidth = 3
-      ctx.setLineDash([5, 3])
-      ctx.stroke()
-      ctx.setLineDash([])
-    }
+    const drawn = circles.length + shapes.length
     this.drawnCount = drawn
     this.fire('drawn', { count: drawn })
   }
 
-  private trace(ctx: CanvasRenderingContext2D, i: number, grow: number) {
-    const rings = this.shapes.get(i)
-    if (rings) {
-      for (const r of rings) {
-        ctx.moveTo(r[0]!, r[1]!)
-        for (let k = 2; k < r.length; k += 2) ctx.lineTo(r[k]!, r[k + 1]!)
-        ctx.closePath()
-      }
-      return
+  private trace(ctx: CanvasRenderingContext2D, i: number) {
+    for (const r of this.shapes.get(i)!) {
+      ctx.moveTo(r[0]!, r[1]!)
+      for (let k = 2; k < r.length; k += 2) ctx.lineTo(r[k]!, r[k + 1]!)
+      ctx.closePath()
     }
-    const x = this.xs[i]!
-    const y = this.ys[i]!
-    const radius = this.marks[i]!.radius + grow
-    ctx.moveTo(x + radius, y)
-    ctx.arc(x, y, radius, 0, 2 * Math.PI)
+  }
+
+  private rgb(hex: string): Rgb {
+    let c = this.colours.get(hex)
+    if (!c) {
+      c = rgbOf(hex)
+      this.colours.set(hex, c)
+    }
+    return c
   }
 
   private index(i: number, left: number, top: number, right: number, bottom: number) {

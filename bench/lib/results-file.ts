@@ -1,6 +1,7 @@
 // bench/results.json: one entry per measurement, merged by name and size so every benchmark can
 // update its own entries without touching the others'.
 import { existsSync, readFileSync, writeFileSync } from 'node:fs'
+import { loadavg } from 'node:os'
 import { dirname, join } from 'node:path'
 import { fileURLToPath } from 'node:url'
 
@@ -45,4 +46,12 @@ export function printTable(head: string[], rows: string[][]): void {
   const fmt = (r: string[]): string => r.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ')
   console.log(fmt(head))
   for (const r of rows) console.log(fmt(r))
+}
+
+/**
+ * The 1-minute load average, printed and stored beside every figure: on a shared machine it inflates wall times
+ * (ours and the peer's alike, so a ratio measured in one run is steadier than either figure).
+ */
+export function loadAverage(): number {
+  return round(loadavg()[0]!, 2)
 }

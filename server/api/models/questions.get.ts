@@ -8,7 +8,7 @@ const querySchema = z.object({ roundId: z.coerce.number().int().positive() })
 export default defineRoleHandler(['coordinator'], async (event, user) => {
   const { roundId } = await getValidatedQuery(event, validateWith(querySchema))
   const context = await roundContext(roundId, user.organisationId)
-  const counts = await visitCounts(roundId, user.organisationId)
+  const counts = await visitCounts(context.round.id)
   return {
     round: { id: context.round.id, name: context.round.name, technology: context.round.technology },
     outcome: context.questions.find(q => q.key === OUTCOME_KEY) ?? null,
