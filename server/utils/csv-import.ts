@@ -6,7 +6,7 @@ import {
   type ImportOutcome, type ImportPreview, type ImportProblem, type ImportRequest, importRequestSchema
 } from '#shared/utils/schemas/csv-import'
 import { type Question, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
-import { adoptedOf } from '#shared/utils/schemas/visit'
+import { adoptedOf, notAskedKeys } from '#shared/utils/schemas/visit'
 import { fieldErrorsOf, summaryOf } from '#shared/utils/zod-errors'
 import { type CheckedRow, CsvFileError, type ParsedCsv, checkRows, mappingErrors, parseCsv, rejectedRowsCsv } from '#shared/utils/imports/csv-rows'
 import { ImportBatch, QuestionnaireVersion, RoundVillage, User, Village, Visit, type VisitFlags } from '../db/models'
@@ -175,6 +175,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
           accuracyM: null,
           manualLocationReason: 'imported',
           answers: r.answers,
+          notAsked: notAskedOrNull(ctx.questions, r.answers),
           consentAt: at,
           startedAt: at,
           savedAt: at,
@@ -226,4 +227,10 @@ async function refuseRepeat(roundId: number, fileSha256: string) {
     statusCode: 409,
     message: `This file was imported into this round already (${before.fileName}, ${before.createdAt.toISOString().slice(0, 10)}, by ${who?.name ?? 'a coordinator'}: ${before.rowsImported} rows). Importing it again would count the same farms twice.`
   })
+}
+
+/** What the questionnaire's conditions left not asked in an imported row (null when nothing). */
+function notAskedOrNull(questions: Parameters<typeof notAskedKeys>[0], answers: Record<string, unknown>): string[] | null {
+  const keys = notAskedKeys(questions, answers)
+  return keys.length ? keys : null
 }

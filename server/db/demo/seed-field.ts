@@ -1,6 +1,7 @@
 import type { Sequelize } from 'sequelize'
 import demo from '../demo-people.json'
 import { Assignment, Organisation, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../models'
+import { notAskedKeys } from '../../../shared/utils/schemas/visit'
 import { DEMO_TECHNOLOGY, generateDemo } from './field-demo'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
@@ -55,6 +56,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       accuracyM: v.accuracyM,
       manualLocationReason: null,
       answers: v.answers,
+      notAsked: notAskedKeys(questions, v.answers).length ? notAskedKeys(questions, v.answers) : null,
       consentAt: v.startedAt,
       startedAt: v.startedAt,
       savedAt: v.savedAt,

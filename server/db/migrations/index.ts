@@ -8,6 +8,7 @@ import * as m0010 from './0010-sessions'
 import * as m0020 from './0020-utf8mb4-everywhere'
 import * as m0040 from './0040-data-version'
 import * as m0050 from './0050-round-visit-target'
+import * as m0140 from './0140-visit-not-asked'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
 // Add a new file as NNNN-what-it-does.ts and append it here.
@@ -21,5 +22,6 @@ export const MIGRATIONS = [
   { name: '0010-sessions', ...m0010 },
   { name: '0020-utf8mb4-everywhere', ...m0020 },
   { name: '0040-data-version', ...m0040 },
-  { name: '0050-round-visit-target', ...m0050 }
+  { name: '0050-round-visit-target', ...m0050 },
+  { name: '0140-visit-not-asked', ...m0140 }
 ]

@@ -103,6 +103,13 @@ function typed(q: Question, cell: string, words: { yes: Set<string>, no: Set<str
       const w = s.toLowerCase()
       return q.options.find(o => o.value === w || o.label.toLowerCase() === w)?.value ?? s
     }
+    case 'several':
+      // Several answers in one cell, separated by ; or | (a comma may be the file's own separator), each an option's
+      // code or label; what matches no option stays as typed, so the schema names it.
+      return s.split(/[;|]/).map(part => part.trim()).filter(Boolean).map((part) => {
+        const w = part.toLowerCase()
+        return q.options.find(o => o.value === w || o.label.toLowerCase() === w)?.value ?? part
+      })
     default:
       return s
   }
