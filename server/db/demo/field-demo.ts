@@ -68,7 +68,7 @@ export function demoQuestions(): Question[] {
       askWhen: { join: 'all', tests: [{ question: 'credit_access', test: 'equals', value: true }] }
     },
     {
-      key: 'heard_from', label: 'Where did the household hear of the seed?', help: 'Tick every source the farmer names.', type: 'several',
+      key: 'heard_from', label: 'Where did the household hear of the seed?', help: 'Tick every source the farmer names.', type: 'several', required: false,
       options: HEARD_FROM.map(([value, label]) => ({ value, label }))
     }
   ]

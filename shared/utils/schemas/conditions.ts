@@ -53,3 +53,4 @@ export const conditionSchema = z.object({
   tests: z.array(conditionTestSchema).min(1, 'Add at least one test, or remove the condition').max(10, 'At most 10 tests per condition')
 })
 export type Condition = z.infer<typeof conditionSchema>
+export type ConditionInput = z.input<typeof conditionSchema>
