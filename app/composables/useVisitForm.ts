@@ -69,7 +69,8 @@ export function useVisitForm() {
 
   // A question whose condition stops holding is hidden and its answer dropped: the visit then records it as not asked
   // (the schema, here and on the server, refuses an answer to a hidden question).
-  const asking = computed(() => version.value && visit.value ? askedQuestions(version.value.definition.questions, visit.value.answers) : null)
+  // A plain copy: it reads every key of the reactive answers, so the condition follows answers added later too.
+  const asking = computed(() => version.value && visit.value ? askedQuestions(version.value.definition.questions, { ...visit.value.answers }) : null)
   watch(() => asking.value?.notAsked.join(','), () => {
     if (!visit.value || !version.value || readOnly.value) return
     const { answers, removed } = withoutNotAsked(version.value.definition.questions, visit.value.answers)
