@@ -5,6 +5,7 @@ import {
   IMPORT_MAX_BYTES, IMPORT_PREVIEW_ROWS, IMPORT_REPORT_MAX,
   type ImportOutcome, type ImportPreview, type ImportProblem, type ImportRequest, importRequestSchema
 } from '#shared/utils/schemas/csv-import'
+import type { AnswerCheck } from '#shared/utils/schemas/checks'
 import { type Question, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
 import { adoptedOf, notAskedKeys } from '#shared/utils/schemas/visit'
 import { fieldErrorsOf, summaryOf } from '#shared/utils/zod-errors'
@@ -52,6 +53,7 @@ interface ImportContext {
   roundId: number
   versionId: number
   questions: Question[]
+  checks: AnswerCheck[]
   villages: Map<string, Village>
 }
 
@@ -67,7 +69,7 @@ async function contextFor(user: SignedInUser, roundId: number): Promise<ImportCo
   return {
     roundId,
     versionId: version!.id,
-    questions: questionnaireDefinitionSchema.parse(version!.definition).questions,
+    ...(({ questions, checks }) => ({ questions, checks: checks ?? [] }))(questionnaireDefinitionSchema.parse(version!.definition)),
     villages: new Map(villages.map(v => [v.code, v]))
   }
 }
@@ -87,7 +89,7 @@ async function checkRequest(user: SignedInUser, roundId: number, request: Import
   const parsed = parseOr400(request.csv)
   const errors = mappingErrors(request, parsed.columns, ctx.questions)
   if (errors.length) throw createError({ statusCode: 400, message: errors.join(' ') })
-  const checked = checkRows(parsed, ctx.questions, request, [...ctx.villages.keys()])
+  const checked = checkRows(parsed, ctx.questions, request, [...ctx.villages.keys()], undefined, ctx.checks)
   return { ctx, parsed, ...checked }
 }
 

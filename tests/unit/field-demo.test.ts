@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { designFromMatrix, fitBinary } from '../../shared/utils/stats/index'
-import { TRUE_BETA, generateDemo } from '../../server/db/demo/field-demo'
+import { TRUE_BETA, demoChecks, generateDemo } from '../../server/db/demo/field-demo'
 import { questionnaireDefinitionSchema } from '../../shared/utils/schemas/questionnaire'
 import { answersSchemaFor, notAskedKeys } from '../../shared/utils/schemas/visit'
 
@@ -14,11 +14,11 @@ describe('demo field data', () => {
     expect(again.visits[700]).toEqual(demo.visits[700])
     expect(new Set(demo.visits.map(v => v.id)).size).toBe(1500)
     expect(new Set(demo.visits.map(v => v.farmCode)).size).toBe(1500)
-    expect(questionnaireDefinitionSchema.safeParse({ questions: demo.questions }).success).toBe(true)
+    expect(questionnaireDefinitionSchema.safeParse({ questions: demo.questions, checks: demoChecks() }).success).toBe(true)
   })
 
   it('asks the credit source only with credit, and takes several sources of news, each visit passing the schema', () => {
-    const schema = answersSchemaFor(demo.questions)
+    const schema = answersSchemaFor(demo.questions, demoChecks())
     expect(demo.visits.every(v => schema.safeParse(v.answers).success)).toBe(true)
     const withCredit = demo.visits.filter(v => v.answers.credit_access === true)
     expect(withCredit.length).toBeGreaterThan(200)

@@ -1,4 +1,5 @@
 import { createHash } from 'node:crypto'
+import type { AnswerCheck } from '../../../shared/utils/schemas/checks'
 import { type Question, outcomeQuestion } from '../../../shared/utils/schemas/questionnaire'
 import { intrinsicFlags } from '../../utils/visit-flags'
 import { normal, prng } from '../../../shared/utils/random/prng'
@@ -45,6 +46,11 @@ function uuidFrom(u: () => number): string {
   hex[16] = '89ab'[Math.floor(u() * 4)]!
   const s = hex.join('')
   return `${s.slice(0, 8)}-${s.slice(8, 12)}-${s.slice(12, 16)}-${s.slice(16, 20)}-${s.slice(20)}`
+}
+
+/** The demo's one check across answers: schooling cannot reach the head's age. */
+export function demoChecks(): AnswerCheck[] {
+  return [{ question: 'schooling_years', test: 'less_than', against: { question: 'age_head' }, message: 'Years of schooling must be fewer than the head\'s age: check both answers with the farmer.' }]
 }
 
 export function demoQuestions(): Question[] {

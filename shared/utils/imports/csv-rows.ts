@@ -1,4 +1,5 @@
 import Papa from 'papaparse'
+import type { AnswerCheck } from '../schemas/checks'
 import { type Question, OUTCOME_KEY } from '../schemas/questionnaire'
 import { answersSchemaFor, farmCodeSchema } from '../schemas/visit'
 import { ownValue } from '../schemas/safe-text'
@@ -143,7 +144,7 @@ export function visitDayOf(raw: string, today: string): { day: string } | { prob
 }
 
 /** Maps and checks every record: farm code, village of the round, and the answers with the questionnaire's schema. */
-export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[], today = new Date().toISOString().slice(0, 10)): CheckResult {
+export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[], today = new Date().toISOString().slice(0, 10), checks: readonly AnswerCheck[] = []): CheckResult {
   const decimalComma = parsed.delimiter !== ','
   const index = new Map(parsed.columns.map((c, i) => [c, i]))
   const columnOf = (key: string) => ownValue(request.mapping.questions, key)
@@ -153,7 +154,7 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
     ? `Choose the column with the outcome (${OUTCOME_KEY}): it is required.`
     : `Choose a column for the required question "${q.label}" (${q.key}).`)
   const skip = new Set(unmappedRequired.map(q => q.key))
-  const schema = answersSchemaFor(questions)
+  const schema = answersSchemaFor(questions, checks)
   const extra = request.yesNoWords
   const words = {
     yes: new Set([...YES, ...(extra?.yes ? [extra.yes.toLowerCase()] : [])]),

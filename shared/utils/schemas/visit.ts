@@ -1,5 +1,7 @@
 import { z } from 'zod'
+import { failedChecks } from '../answer-checks'
 import { askedQuestions, conditionText, isNoAnswer } from '../asking'
+import type { AnswerCheck } from './checks'
 import { OUTCOME_KEY, type Question, type QuestionnaireVersionDto } from './questionnaire'
 import { ownValue, safeText } from './safe-text'
 
@@ -63,7 +65,7 @@ const REQUIRED = 'This answer is required'
  * Questions with a condition are checked after the shape, with the shared evaluator: a question the condition hides
  * must have no answer (it is "not asked"), and "required" applies only when it is asked.
  */
-export function answersSchemaFor(questions: readonly Question[]) {
+export function answersSchemaFor(questions: readonly Question[], checks: readonly AnswerCheck[] = []) {
   const shape: Record<string, z.ZodType> = {}
   for (const q of questions) {
     const s = answerSchema(q)
@@ -72,7 +74,7 @@ export function answersSchemaFor(questions: readonly Question[]) {
       : s.nullable().optional()
   }
   const object = z.strictObject(shape, { error: issue => issue.code === 'unrecognized_keys' ? `Not a question of this questionnaire: ${issue.keys.join(', ')}` : 'Answers must be an object' })
-  if (!questions.some(q => q.askWhen)) return object
+  if (!questions.some(q => q.askWhen) && !checks.length) return object
   // Runs even when another answer has the wrong type, so every hidden answer is named at once.
   return object.check(z.superRefine((answers: Record<string, unknown>, ctx) => {
     if (!answers || typeof answers !== 'object' || Array.isArray(answers)) return
@@ -85,6 +87,8 @@ export function answersSchemaFor(questions: readonly Question[]) {
       }
       else if (q.required && isNoAnswer(value)) ctx.addIssue({ code: 'custom', path: [q.key], message: REQUIRED })
     }
+    // The coordinator's checks across answers, with their own messages, under the answer checked.
+    for (const f of failedChecks(questions, checks, answers)) ctx.addIssue({ code: 'custom', path: [f.question], message: f.message })
   }, { when: () => true }))
 }
 
@@ -111,7 +115,7 @@ function buildVisitSchema(version: QuestionnaireVersionDto) {
     questionnaireVersionId: z.literal(version.id, { error: 'Answered with another questionnaire version' }),
     farmCode: farmCodeSchema,
     location: locationSchema,
-    answers: answersSchemaFor(version.definition.questions),
+    answers: answersSchemaFor(version.definition.questions, version.definition.checks),
     consent: z.literal(true, { error: 'The farmer\'s informed consent is required' }),
     consentAt: isoInstant,
     startedAt: isoInstant,
