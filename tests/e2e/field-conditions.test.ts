@@ -80,6 +80,14 @@ describe('conditions and several answers on a tablet with no network', () => {
     const [withCredit, withoutCredit] = [`COND-${tag}-1`, `COND-${tag}-2`]
 
     await startVisit(page, withCredit)
+    // The coordinator's check across answers shows under the answer as soon as the answers break it.
+    const checkMessage = 'Years of schooling must be fewer than the head\'s age: check both answers with the farmer.'
+    await page.locator('#q-age_head').fill('20')
+    await page.locator('#q-schooling_years').fill('24')
+    await poll(() => page.locator('#q-schooling_years-error').textContent()).toBe(checkMessage)
+    await page.locator('#q-schooling_years').fill(NUMBERS.schooling_years!)
+    await page.locator('#q-age_head').fill(NUMBERS.age_head!)
+    await poll(() => page.getByText(checkMessage).count()).toBe(0)
     // Credit not answered yet: the source is not asked.
     expect(await creditQuestionShown(page)).toBe(0)
     await setCredit(page, true)
@@ -176,6 +184,8 @@ describe('conditions and several answers on a tablet with no network', () => {
       key: 'credit_source', askWhen: { join: 'all', tests: [{ question: 'access_to_credit', test: 'equals', value: true }] }
     })
 
+    // The page reloads the round after a save (and redraws the list from it): move only once that is done.
+    await page.waitForLoadState('networkidle')
     // Moved above the question it depends on: the save says what is wrong, under the question.
     await third.getByRole('button', { name: 'Up' }).click()
     await page.getByTestId('builder-question').nth(1).getByLabel('Code of answer 2').fill('bank')
@@ -189,6 +199,25 @@ describe('conditions and several answers on a tablet with no network', () => {
     expect(await moved.innerText()).not.toContain('is used twice')
     expect((await QuestionnaireVersion.findByPk(round!.currentVersionId!))!.definition.questions.map(q => q.key)).toEqual(['adopted', 'access_to_credit', 'credit_source'])
     await page.screenshot({ path: path.join(SCREENSHOTS, 'builder-conditions.png'), fullPage: true })
+
+    // A check across answers with the coordinator's own message: the area sown at most the farm's size.
+    await moved.getByRole('button', { name: 'Down' }).click()
+    for (const [i, label] of [[3, 'Farm size'], [4, 'Area sown with the bags']] as const) {
+      await page.getByRole('button', { name: 'Add a question' }).click()
+      await page.locator(`#q${i}-label`).fill(label)
+      await page.locator(`#q${i}-type`).selectOption({ label: 'Number (with unit)' })
+    }
+    await page.getByRole('button', { name: 'Add a check' }).click()
+    const check = page.getByTestId('answer-check')
+    await check.getByLabel('Answer checked (check 1)').selectOption({ label: 'Area sown with the bags' })
+    await check.getByLabel('Comparison (check 1)').selectOption({ label: 'must be at most' })
+    await check.getByLabel('Other answer (check 1)').selectOption({ label: 'Farm size' })
+    await check.getByLabel('Message the enumerator reads when it fails').fill('The area sown cannot be larger than the farm.')
+    await page.getByRole('button', { name: 'Save questionnaire' }).click()
+    await poll(async () => (await QuestionnaireVersion.findByPk(round!.currentVersionId!))!.definition.checks, 20_000).toEqual([
+      { question: 'area_sown_with_the_bags', test: 'at_most', against: { question: 'farm_size' }, message: 'The area sown cannot be larger than the farm.' }
+    ])
+    await page.screenshot({ path: path.join(SCREENSHOTS, 'builder-checks.png'), fullPage: true })
     await context.close()
   })
 

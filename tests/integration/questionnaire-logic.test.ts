@@ -186,3 +186,29 @@ describe('several answers in the export and the model builder', () => {
     expect((await preview('zero')).body.rows.used).toBe(withSource + notAsked)
   })
 })
+
+describe('checks across answers on the server', () => {
+  it('refuses, for that record only, a visit breaking a check, with the coordinator\'s message', async () => {
+    const detail = await coordinator.get<{ questionnaire: { definition: { questions: unknown[] } } }>(`/api/rounds/${round.roundId}`)
+    const message = 'A household of this size cannot farm more than 40 ha here: check both answers.'
+    const saved = await coordinator.request<{ id: number }>('PUT', `/api/rounds/${round.roundId}/questionnaire`, {
+      questions: detail.body.questionnaire.definition.questions,
+      checks: [{ question: 'farm_size_ha', test: 'at_most', against: { value: 40 }, message }]
+    })
+    expect(saved.status).toBe(200)
+    const v2 = { ...round, versionId: saved.body.id }
+    const breaks = makeVisit(v2, {}, { credit_access: false, farm_size_ha: 45 })
+    const keeps = makeVisit(v2, {}, { credit_access: false, farm_size_ha: 39.5 })
+    const answer = await sync([breaks, keeps])
+    expect(answer.body.results.map(r => r.status)).toEqual(['rejected', 'stored'])
+    expect(answer.body.results[0]!.errors).toEqual({ 'answers.farm_size_ha': message })
+    expect(await Visit.count({ where: { id: breaks.id } })).toBe(0)
+    // A check that names an unknown question is refused on save with a clear message.
+    const bad = await coordinator.request<{ message: string }>('PUT', `/api/rounds/${round.roundId}/questionnaire`, {
+      questions: detail.body.questionnaire.definition.questions,
+      checks: [{ question: 'farm_size_ha', test: 'at_most', against: { question: 'plot_size' }, message: 'Plot within farm' }]
+    })
+    expect(bad.status).toBe(400)
+    expect(bad.body.message).toContain('The check compares with "plot_size", which is not a question of this questionnaire')
+  })
+})
