@@ -67,6 +67,16 @@ export function useVisitForm() {
     errors.value = found.errors ?? {}
   }
 
+  // A question whose condition stops holding is hidden and its answer dropped: the visit then records it as not asked
+  // (the schema, here and on the server, refuses an answer to a hidden question).
+  // A plain copy: it reads every key of the reactive answers, so the condition follows answers added later too.
+  const asking = computed(() => version.value && visit.value ? askedQuestions(version.value.definition.questions, { ...visit.value.answers }) : null)
+  watch(() => asking.value?.notAsked.join(','), () => {
+    if (!visit.value || !version.value || readOnly.value) return
+    const { answers, removed } = withoutNotAsked(version.value.definition.questions, visit.value.answers)
+    if (removed.length) visit.value.answers = answers
+  })
+
   // Drafts save themselves: a short pause after the last change writes the whole form to the device.
   const typed = computed(() => {
     const v = visit.value
@@ -179,5 +189,5 @@ export function useVisitForm() {
     if (dirty) void persist()
   })
 
-  return { visit, version, errors, notFound, saving, readOnly, roundClosed, justSaved, stored, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
+  return { visit, version, asking, errors, notFound, saving, readOnly, roundClosed, justSaved, stored, discardable, setConsent, addPhotos, removePhoto, save, discard, keepServerCopy, resendOnTop }
 }

@@ -23,6 +23,7 @@ function shown(value: unknown, question?: Question): string {
   if (value === false) return 'No'
   if (question && (question.type === 'number' || question.type === 'whole') && question.unit) return `${value} ${question.unit}`
   if (question?.type === 'choice') return question.options.find(o => o.value === value)?.label ?? String(value)
+  if (question?.type === 'several' && Array.isArray(value)) return value.map(v => question.options.find(o => o.value === v)?.label ?? String(v)).join(', ') || '—'
   return typeof value === 'object' ? JSON.stringify(value) : String(value)
 }
 

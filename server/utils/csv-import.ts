@@ -5,8 +5,9 @@ import {
   IMPORT_MAX_BYTES, IMPORT_PREVIEW_ROWS, IMPORT_REPORT_MAX,
   type ImportOutcome, type ImportPreview, type ImportProblem, type ImportRequest, importRequestSchema
 } from '#shared/utils/schemas/csv-import'
+import type { AnswerCheck } from '#shared/utils/schemas/checks'
 import { type Question, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
-import { adoptedOf } from '#shared/utils/schemas/visit'
+import { adoptedOf, notAskedKeys } from '#shared/utils/schemas/visit'
 import { fieldErrorsOf, summaryOf } from '#shared/utils/zod-errors'
 import { type CheckedRow, CsvFileError, type ParsedCsv, checkRows, mappingErrors, parseCsv, rejectedRowsCsv } from '#shared/utils/imports/csv-rows'
 import { ImportBatch, QuestionnaireVersion, RoundVillage, User, Village, Visit, type VisitFlags } from '../db/models'
@@ -52,6 +53,7 @@ interface ImportContext {
   roundId: number
   versionId: number
   questions: Question[]
+  checks: AnswerCheck[]
   villages: Map<string, Village>
 }
 
@@ -67,7 +69,7 @@ async function contextFor(user: SignedInUser, roundId: number): Promise<ImportCo
   return {
     roundId,
     versionId: version!.id,
-    questions: questionnaireDefinitionSchema.parse(version!.definition).questions,
+    ...(({ questions, checks }) => ({ questions, checks: checks ?? [] }))(questionnaireDefinitionSchema.parse(version!.definition)),
     villages: new Map(villages.map(v => [v.code, v]))
   }
 }
@@ -87,7 +89,7 @@ async function checkRequest(user: SignedInUser, roundId: number, request: Import
   const parsed = parseOr400(request.csv)
   const errors = mappingErrors(request, parsed.columns, ctx.questions)
   if (errors.length) throw createError({ statusCode: 400, message: errors.join(' ') })
-  const checked = checkRows(parsed, ctx.questions, request, [...ctx.villages.keys()])
+  const checked = checkRows(parsed, ctx.questions, request, [...ctx.villages.keys()], undefined, ctx.checks)
   return { ctx, parsed, ...checked }
 }
 
@@ -175,6 +177,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
           accuracyM: null,
           manualLocationReason: 'imported',
           answers: r.answers,
+          notAsked: notAskedOrNull(ctx.questions, r.answers),
           consentAt: at,
           startedAt: at,
           savedAt: at,
@@ -226,4 +229,10 @@ async function refuseRepeat(roundId: number, fileSha256: string) {
     statusCode: 409,
     message: `This file was imported into this round already (${before.fileName}, ${before.createdAt.toISOString().slice(0, 10)}, by ${who?.name ?? 'a coordinator'}: ${before.rowsImported} rows). Importing it again would count the same farms twice.`
   })
+}
+
+/** What the questionnaire's conditions left not asked in an imported row (null when nothing). */
+function notAskedOrNull(questions: Parameters<typeof notAskedKeys>[0], answers: Record<string, unknown>): string[] | null {
+  const keys = notAskedKeys(questions, answers)
+  return keys.length ? keys : null
 }

@@ -1,7 +1,7 @@
 import { createHash, randomUUID } from 'node:crypto'
 import { Op, QueryTypes, Transaction, col, where as sqlWhere } from 'sequelize'
 import { type QuestionnaireVersionDto, questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnaire'
-import { type ServerVisit, type SyncAnswer, type SyncResult, type SyncStatus, adoptedOf, visitEnvelopeSchema, visitSchemaFor, type VisitInput } from '#shared/utils/schemas/visit'
+import { type ServerVisit, type SyncAnswer, type SyncResult, type SyncStatus, adoptedOf, notAskedKeys, visitEnvelopeSchema, visitSchemaFor, type VisitInput } from '#shared/utils/schemas/visit'
 import { fieldErrorsOf } from '#shared/utils/zod-errors'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'
@@ -41,7 +41,7 @@ export function serverCopyOf(visit: Visit): ServerVisit {
   }
 }
 
-function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string) {
+function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string, notAsked: string[]) {
   const where = v.location
   return {
     id: v.id,
@@ -56,6 +56,7 @@ function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string)
     accuracyM: where.kind === 'gps' ? where.accuracyM : null,
     manualLocationReason: where.kind === 'manual' ? where.reason : null,
     answers: v.answers,
+    notAsked: notAsked.length ? notAsked : null,
     consentAt: new Date(v.consentAt),
     startedAt: new Date(v.startedAt),
     savedAt: new Date(v.savedAt),
@@ -206,10 +207,12 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
 
   const columnsFor = (c: Valid) => {
     const v = c.input
+    const questions = ctx.versions.get(v.questionnaireVersionId)!.definition.questions
     const flags = intrinsicFlags(
       { lat: v.location.lat ?? null, lon: v.location.lon ?? null, startedAt: v.startedAt, savedAt: v.savedAt, answers: v.answers },
-      ctx.villages.get(v.villageId), ctx.versions.get(v.questionnaireVersionId)!.definition.questions, settings)
-    return columnsOf(v, actor, flags, c.hash)
+      ctx.villages.get(v.villageId), questions, settings)
+    // The schema refused answers to hidden questions; what its conditions hid is stored as "not asked".
+    return columnsOf(v, actor, flags, c.hash, notAskedKeys(questions, v.answers))
   }
   const inserts = []
   for (const c of valid) {
@@ -242,7 +245,7 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
 }
 
 const INSERT_COLUMNS = ['id', 'device_id', 'organisation_id', 'round_id', 'village_id', 'enumerator_id', 'questionnaire_version_id', 'farm_code',
-  'lat', 'lon', 'accuracy_m', 'manual_location_reason', 'answers', 'consent_at', 'started_at', 'saved_at', 'adopted',
+  'lat', 'lon', 'accuracy_m', 'manual_location_reason', 'answers', 'not_asked', 'consent_at', 'started_at', 'saved_at', 'adopted',
   'review_state', 'review_reason', 'flags', 'device_hash', 'version', 'created_at', 'updated_at'] as const
 
 /**
@@ -253,7 +256,7 @@ const INSERT_COLUMNS = ['id', 'device_id', 'organisation_id', 'round_id', 'villa
 async function insertVisits(rows: Array<ReturnType<typeof columnsOf>>, transaction: Transaction) {
   const now = new Date()
   const values = rows.flatMap(r => [r.id, r.deviceId, r.organisationId, r.roundId, r.villageId, r.enumeratorId, r.questionnaireVersionId, r.farmCode,
-    r.lat, r.lon, r.accuracyM, r.manualLocationReason, JSON.stringify(r.answers), r.consentAt, r.startedAt, r.savedAt, r.adopted,
+    r.lat, r.lon, r.accuracyM, r.manualLocationReason, JSON.stringify(r.answers), r.notAsked ? JSON.stringify(r.notAsked) : null, r.consentAt, r.startedAt, r.savedAt, r.adopted,
     r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.deviceHash, 1, now, now])
   const row = `(${INSERT_COLUMNS.map(() => '?').join(', ')})`
   await database().query(`INSERT INTO visits (${INSERT_COLUMNS.join(', ')}) VALUES ${rows.map(() => row).join(', ')}`, {

@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto'
 import { QueryTypes } from 'sequelize'
-import type { ModelQuestion } from '#shared/utils/modelling/questions'
+import { conditionText } from '#shared/utils/asking'
+import { type AskingCounts, NOT_ASKED_LEVEL, type ModelQuestion } from '#shared/utils/modelling/questions'
 import { VILLAGE_COLUMN } from '#shared/utils/modelling/spec-builder'
 import type { CodedColumn, DataColumns, ModelSpec } from '#shared/utils/stats'
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
@@ -68,6 +69,33 @@ export async function visitCounts(roundId: number): Promise<{ accepted: number, 
   return { accepted, excluded: { notAccepted } }
 }
 
+/**
+ * For each question asked under a condition: of the round's accepted visits, how many answered it and how many were
+ * not asked (one grouped read), so the builder can say how many farms each treatment of "not asked" keeps.
+ */
+export async function askingCounts(roundId: number, organisationId: number, questions: readonly ModelQuestion[]): Promise<Record<string, AskingCounts>> {
+  const conditional = questions.filter(q => q.askWhen)
+  if (!conditional.length) return {}
+  const sums: string[] = []
+  const params: unknown[] = []
+  for (const q of conditional) {
+    const path = `$."${q.key}"`
+    sums.push('SUM(COALESCE(JSON_CONTAINS(not_asked, ?), 0))')
+    params.push(JSON.stringify(q.key))
+    sums.push(`SUM(CASE WHEN JSON_EXTRACT(answers, ?) IS NULL OR JSON_TYPE(JSON_EXTRACT(answers, ?)) = 'NULL' THEN 0
+      WHEN JSON_TYPE(JSON_EXTRACT(answers, ?)) = 'ARRAY' THEN JSON_LENGTH(JSON_EXTRACT(answers, ?)) > 0 ELSE 1 END)`)
+    params.push(path, path, path, path)
+  }
+  const [row] = await database().query<Record<string, unknown>>(
+    `SELECT ${sums.map((sql, i) => `${sql} AS c${i}`).join(', ')} FROM visits WHERE round_id = ? AND organisation_id = ? AND review_state = 'accepted'`,
+    { replacements: [...params, roundId, organisationId], type: QueryTypes.SELECT })
+  return Object.fromEntries(conditional.map((q, i) => [q.key, {
+    condition: conditionText(q.askWhen!, questions),
+    notAsked: Number(row?.[`c${2 * i}`] ?? 0),
+    answered: Number(row?.[`c${2 * i + 1}`] ?? 0)
+  }]))
+}
+
 /** Whether the round has at least one accepted visit (one index probe). */
 export async function hasAcceptedVisits(roundId: number): Promise<boolean> {
   const rows = await database().query('SELECT 1 FROM visits WHERE round_id = ? AND review_state = \'accepted\' LIMIT 1', { replacements: [roundId], type: QueryTypes.SELECT })
@@ -114,7 +142,16 @@ interface PoolManager {
  */
 export async function loadRoundColumns(roundId: number, organisationId: number, spec: ModelSpec): Promise<RoundColumns> {
   const keys = [...new Set([...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])])]
-  const numeric = keys.map(k => k === spec.weights || (spec.covariates.find(c => c.name === k)?.type ?? 'numeric') === 'numeric')
+  const covariateOf = (k: string) => spec.covariates.find(c => c.name === k)
+  // An option of a several-answer question (question.option) is read as 0/1, a number the engine takes as yes/no.
+  const numeric = keys.map(k => k === spec.weights || k.includes('.') || (covariateOf(k)?.type ?? 'numeric') === 'numeric')
+  // Farms a conditional question was not asked at, when the model counts them as 0: the value they get instead of
+  // missing. (Left out instead, they are simply missing: hidden questions hold no answer.)
+  const zeroFor = keys.map((k) => {
+    const c = covariateOf(k)
+    if (c?.notAsked !== 'zero') return null
+    return numeric[keys.indexOf(k)] ? '0' : c.type === 'yesno' ? 'false' : NOT_ASKED_LEVEL
+  })
   const manager = database().connectionManager as unknown as PoolManager
   const conn = await manager.getConnection({ type: 'read' })
   let adopted = new Float64Array(0)
@@ -149,7 +186,28 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     usedHash.update(`data version ${dataVersion}\n`)
     const villageRows = await conn.query('SELECT id, code FROM villages WHERE organisation_id = ?', [organisationId]) as Array<{ id: number, code: string }>
     const codeOf = new Map(villageRows.map(v => [Number(v.id), v.code]))
-    const select = keys.map(() => 'JSON_VALUE(v.answers, ?)').join(', ')
+    const selects: string[] = []
+    const selectParams: unknown[] = []
+    for (const k of keys) {
+      const [question, option] = k.split('.')
+      const path = `$."${question}"`
+      if (option === undefined) {
+        selects.push('JSON_VALUE(v.answers, ?)')
+        selectParams.push(path)
+      }
+      else {
+        // 1 ticked, 0 not ticked, NULL when the question holds no list (unanswered or not asked).
+        selects.push('CASE WHEN JSON_TYPE(JSON_EXTRACT(v.answers, ?)) = \'ARRAY\' AND JSON_LENGTH(JSON_EXTRACT(v.answers, ?)) > 0 THEN JSON_CONTAINS(JSON_EXTRACT(v.answers, ?), ?) END')
+        selectParams.push(path, path, path, JSON.stringify(option))
+      }
+    }
+    const flagged = keys.flatMap((k, j) => zeroFor[j] === null ? [] : [j])
+    for (const j of flagged) {
+      selects.push('COALESCE(JSON_CONTAINS(v.not_asked, ?), 0)')
+      selectParams.push(JSON.stringify(keys[j]!.split('.')[0]))
+    }
+    const flagAt = new Map(flagged.map((j, i) => [j, 4 + keys.length + i]))
+    const select = selects.join(', ')
     // No join (codes come from the map above) and the (round_id, review_state) index forced: its entries are in
     // id order within the round's accepted visits, so rows stream from the first one on. With the join MariaDB
     // chose to start from the villages and sort everything before sending a row, which for 10^6 visits outlasted
@@ -158,7 +216,7 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
       FROM visits v FORCE INDEX (visits_round_id_review_state)
       WHERE v.round_id = ? AND v.organisation_id = ? AND v.review_state = 'accepted' ORDER BY v.id`
     // Question keys are [a-z][a-z0-9_]*; the paths are bound as parameters all the same.
-    const params = [...keys.map(k => `$."${k}"`), roundId, organisationId]
+    const params = [...selectParams, roundId, organisationId]
     let chunk = ''
     let usedChunk = ''
     // typeCast off for this query: the pool's per-value hook (Sequelize's type parsers) cost more than the decoding
@@ -175,7 +233,8 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
       let line = `${id}|${code}|${y}`
       let used = true
       for (let j = 0; j < keys.length; j++) {
-        const v = row[4 + j] as string | null
+        const at = flagAt.get(j)
+        const v = at !== undefined && Number(row[at]) === 1 ? zeroFor[j]! : (row[4 + j] === null ? null : String(row[4 + j]))
         line += v === null ? '|\\N' : `|${v}`
         if (isMissingText(v)) {
           used = false

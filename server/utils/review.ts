@@ -3,7 +3,7 @@ import { Op, literal, type Order, type WhereOptions } from 'sequelize'
 import type { Page } from '#shared/types/listing'
 import type { ReviewRow, VisitCorrection } from '#shared/types/field'
 import type { BulkAccept, ReviewAction, ReviewQuery } from '#shared/utils/schemas/review'
-import { answersSchemaFor, adoptedOf } from '#shared/utils/schemas/visit'
+import { answersSchemaFor, adoptedOf, notAskedKeys } from '#shared/utils/schemas/visit'
 import { AuditEntry, Photo, QuestionnaireVersion, Round, User, Village, Visit } from '../db/models'
 import { database } from '../db/connection'
 import type { SignedInUser } from './access'
@@ -88,6 +88,7 @@ function reviewRowOf(v: Visit, photoIds: string[], corrections: VisitCorrection[
     reviewReason: v.reviewReason,
     flags: v.flags as Record<string, unknown>,
     answers: v.answers,
+    notAsked: v.notAsked ?? [],
     questionnaireVersionId: v.questionnaireVersionId,
     lat: v.lat,
     lon: v.lon,
@@ -118,7 +119,7 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
     else {
       const version = await QuestionnaireVersion.findByPk(visit.questionnaireVersionId, { transaction })
       const merged = { ...visit.answers, ...action.answers }
-      const parsed = answersSchemaFor(version!.definition.questions).safeParse(merged)
+      const parsed = answersSchemaFor(version!.definition.questions, version!.definition.checks).safeParse(merged)
       if (!parsed.success) {
         const fieldErrors = fieldErrorsOf(parsed.error)
         throw createError({ statusCode: 400, message: summaryOf(fieldErrors), data: { fieldErrors } })
@@ -131,7 +132,9 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
       const edges = edgeValues(version!.definition.questions, parsed.data)
       const { edgeValues: _old, ...otherFlags } = visit.flags
       const flags = edges.length ? { ...otherFlags, edgeValues: edges } : otherFlags
-      await visit.update({ answers: parsed.data, adopted: adoptedOf(parsed.data), flags, version: visit.version + 1 }, { transaction })
+      // A correction can change which questions the conditions ask: "not asked" follows the corrected answers.
+      const notAsked = notAskedKeys(version!.definition.questions, parsed.data)
+      await visit.update({ answers: parsed.data, notAsked: notAsked.length ? notAsked : null, adopted: adoptedOf(parsed.data), flags, version: visit.version + 1 }, { transaction })
       await audit(event, user, { ...base, details: { reason: action.reason, before, after } }, transaction)
     }
     return { id, reviewState: visit.reviewState, version: visit.version }

@@ -1,6 +1,7 @@
 import type { H3Event } from 'h3'
 import { fn, col } from 'sequelize'
 import type { RoundDetail, RoundRow, VillageProgress, VillageRow } from '#shared/types/field'
+import type { AnswerCheck } from '#shared/utils/schemas/checks'
 import { OUTCOME_KEY, type Question, questionnaireDefinitionSchema, withOutcomeQuestion } from '#shared/utils/schemas/questionnaire'
 import type { RoundCreate, RoundPatch, VillageCreate } from '#shared/utils/schemas/round'
 import { Assignment, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../db/models'
@@ -78,14 +79,17 @@ export async function createRound(event: H3Event, user: SignedInUser, input: Rou
   return database().transaction(async (transaction) => {
     const { copyFromRoundId, ...fields } = input
     let copied: Question[] = []
+    let copiedChecks: AnswerCheck[] = []
     if (copyFromRoundId) {
       // A copy of the earlier round's current questionnaire; its adoption question is asked about the new technology.
       const source = await findRound(user.organisationId, copyFromRoundId)
       const version = source.currentVersionId ? await QuestionnaireVersion.findByPk(source.currentVersionId, { transaction }) : null
-      copied = questionnaireDefinitionSchema.parse(version?.definition ?? { questions: [] }).questions.filter(q => q.key !== OUTCOME_KEY)
+      const earlier = questionnaireDefinitionSchema.parse(version?.definition ?? { questions: [] })
+      copied = earlier.questions.filter(q => q.key !== OUTCOME_KEY)
+      copiedChecks = earlier.checks ?? []
     }
     const round = await Round.create({ ...fields, organisationId: user.organisationId, status: 'draft', currentVersionId: null }, { transaction })
-    const definition = { questions: withOutcomeQuestion(copied, fields.technology) }
+    const definition = { questions: withOutcomeQuestion(copied, fields.technology), ...(copiedChecks.length ? { checks: copiedChecks } : {}) }
     const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition, frozenAt: null }, { transaction })
     await round.update({ currentVersionId: version.id }, { transaction })
     await audit(event, user, { action: 'round.create', entityType: 'round', entityId: round.id, details: { ...fields, ...(copyFromRoundId ? { copiedFromRoundId: copyFromRoundId } : {}) } }, transaction)
@@ -123,11 +127,11 @@ export async function updateRound(event: H3Event, user: SignedInUser, id: number
 }
 
 /** Draft: edits the one version in place. Open: saves a new frozen version. Closed: refused. */
-export async function saveQuestionnaire(event: H3Event, user: SignedInUser, id: number, questions: Question[]) {
+export async function saveQuestionnaire(event: H3Event, user: SignedInUser, id: number, questions: Question[], checks: AnswerCheck[] = []) {
   return database().transaction(async (transaction) => {
     const round = await findRound(user.organisationId, id)
     if (round.status === 'closed') throw createError({ statusCode: 409, message: 'A closed round\'s questionnaire cannot change.' })
-    const parsed = questionnaireDefinitionSchema.safeParse({ questions: withOutcomeQuestion(questions, round.technology) })
+    const parsed = questionnaireDefinitionSchema.safeParse({ questions: withOutcomeQuestion(questions, round.technology), ...(checks.length ? { checks } : {}) })
     if (!parsed.success) throw createError({ statusCode: 400, message: summaryOf(fieldErrorsOf(parsed.error)), data: { fieldErrors: fieldErrorsOf(parsed.error) } })
     const current = await QuestionnaireVersion.findByPk(round.currentVersionId!, { transaction, lock: transaction.LOCK.UPDATE })
     let version = current!

@@ -1,6 +1,7 @@
 import { MODEL_CAUTIONS } from '#shared/utils/cautions'
 import { EXPORT_PRIVACY_NOTE } from '#shared/utils/privacy-words'
-import type { Question } from '#shared/utils/schemas/questionnaire'
+import { conditionText, isNoAnswer } from '#shared/utils/asking'
+import { type Question, exportColumnsOf } from '#shared/utils/schemas/questionnaire'
 import type { VisitExportQuery } from '#shared/utils/schemas/privacy'
 import { ownValue } from '#shared/utils/schemas/safe-text'
 import { QuestionnaireVersion, Village, Visit } from '../db/models'
@@ -50,18 +51,20 @@ function exportColumns(questions: Question[], mode: ExportMode) {
 export async function acceptedVisitsCsv(roundId: number, organisationId: number, currentVersionId: number | null, mode: ExportMode = PSEUDONYMISED): Promise<string> {
   const questions = await currentQuestions(currentVersionId)
   const { fixed, carried, withPositions } = exportColumns(questions, mode)
-  const [visits, villages] = await Promise.all([
+  const [visits, villages, versions] = await Promise.all([
     Visit.findAll({ where: { roundId, organisationId, reviewState: 'accepted' }, order: [['id', 'ASC']] }),
-    Village.findAll({ where: { organisationId }, attributes: ['id', 'code', 'name'] })
+    Village.findAll({ where: { organisationId }, attributes: ['id', 'code', 'name'] }),
+    QuestionnaireVersion.findAll({ where: { roundId }, attributes: ['id', 'definition'] })
   ])
   const village = new Map(villages.map(v => [v.id, v]))
+  // Which questions each version had: a question added later was neither asked nor "not asked" in older visits.
+  const keysOf = new Map(versions.map(v => [v.id, new Set(v.definition.questions.map(q => q.key))]))
   return csvTable(
-    [...fixed.map(([column]) => column), ...carried.map(q => q.key)],
+    [...fixed.map(([column]) => column), ...carried.flatMap(q => exportColumnsOf(q))],
     visits.map((v) => {
-      const answers = carried.map((q) => {
-        const value = ownValue(v.answers, q.key)
-        return typeof value === 'boolean' ? (value ? 'yes' : 'no') : value
-      })
+      const notAsked = new Set(v.notAsked ?? [])
+      const had = keysOf.get(v.questionnaireVersionId)
+      const answers = carried.flatMap(q => answerCells(q, ownValue(v.answers, q.key), had?.has(q.key) ? !notAsked.has(q.key) : null))
       // A purged or erased visit holds its pseudonym or its new id already: written as it is.
       const farm = mode.identifying || v.namesPurgedAt ? v.farmCode : pseudonymOf(organisationId, v.farmCode)
       const position = withPositions
@@ -72,20 +75,42 @@ export async function acceptedVisitsCsv(roundId: number, organisationId: number,
   )
 }
 
+/**
+ * One question's cells, in the order of exportColumnsOf: yes/no as yes/no; a several-answer question as 1/0 per
+ * option (empty when unanswered or not asked, never 0: no answer is not "not ticked"); and for a question with a
+ * condition its `.asked` cell, 1 or 0 (empty when the visit's version did not have the question).
+ */
+function answerCells(q: Question, value: unknown, asked: boolean | null): unknown[] {
+  const own = q.type === 'several'
+    ? q.options.map(o => Array.isArray(value) && !isNoAnswer(value) ? (value.includes(o.value) ? 1 : 0) : null)
+    : [typeof value === 'boolean' ? (value ? 'yes' : 'no') : value]
+  return q.askWhen ? [...own, asked === null ? null : asked ? 1 : 0] : own
+}
+
 /** The data dictionary of the export: what each column means, its type, unit and allowed answers. */
 export async function dataDictionaryCsv(currentVersionId: number | null, mode: ExportMode = PSEUDONYMISED): Promise<string> {
-  const { fixed, carried } = exportColumns(await currentQuestions(currentVersionId), mode)
+  const questions = await currentQuestions(currentVersionId)
+  const { fixed, carried } = exportColumns(questions, mode)
   const rows: unknown[][] = fixed.map(([column, meaning, type]) => [column, meaning, type, '', '', column === 'lat' || column === 'lon' ? 'no' : 'yes'])
   for (const q of carried) {
-    const allowed = q.type === 'choice'
-      ? q.options.map(o => `${o.value} = ${o.label}`).join('; ')
-      : q.type === 'yesno'
-        ? 'yes; no'
-        : (q.type === 'number' || q.type === 'whole')
-            ? [q.min !== undefined ? `min ${q.min}` : '', q.max !== undefined ? `max ${q.max}` : ''].filter(Boolean).join(', ')
-            : ''
-    const unit = q.type === 'number' || q.type === 'whole' ? q.unit ?? '' : ''
-    rows.push([q.key, q.help ? `${q.label} (${q.help})` : q.label, q.type, unit, allowed, q.required ? 'yes' : 'no'])
+    // In the order of exportColumnsOf: the question's own column(s), then its `.asked` column.
+    if (q.type === 'several') {
+      for (const o of q.options) rows.push([`${q.key}.${o.value}`, `${q.label}: ${o.label} (1 ticked, 0 not ticked; empty when not answered or not asked)`, '0/1', '', '0; 1', 'no'])
+    }
+    else {
+      const allowed = q.type === 'choice'
+        ? q.options.map(o => `${o.value} = ${o.label}`).join('; ')
+        : q.type === 'yesno'
+          ? 'yes; no'
+          : (q.type === 'number' || q.type === 'whole')
+              ? [q.min !== undefined ? `min ${q.min}` : '', q.max !== undefined ? `max ${q.max}` : ''].filter(Boolean).join(', ')
+              : ''
+      const unit = q.type === 'number' || q.type === 'whole' ? q.unit ?? '' : ''
+      rows.push([q.key, q.help ? `${q.label} (${q.help})` : q.label, q.type, unit, allowed, q.required ? (q.askWhen ? 'when asked' : 'yes') : 'no'])
+    }
+    if (q.askWhen) {
+      rows.push([`${q.key}.asked`, `Whether "${q.label}" was asked at this farm (1) or not asked (0): asked only when ${conditionText(q.askWhen, questions)}`, '0/1', '', '0; 1', 'yes'])
+    }
   }
   return csvTable(['column', 'meaning', 'type', 'unit', 'allowed answers', 'required'], rows)
 }
@@ -106,7 +131,9 @@ export async function roundExportZip(round: { id: number, name: string, currentV
       : `${EXPORT_PRIVACY_NOTE} Free-text answers are left out: they may name people.`,
     '',
     'Files (each one table, its header on the first row):',
-    '- visits.csv: one row per accepted visit, one column per question.',
+    '- visits.csv: one row per accepted visit, one column per question; a question with several answers has one 0/1 column',
+    '  per option (question.option), and a question asked only under a condition has a column question.asked (1 asked,',
+    '  0 not asked): an empty answer with asked = 0 was not asked, with asked = 1 it was asked and left unanswered.',
     '- dictionary.csv: what each column of visits.csv means, its type, unit and allowed answers.',
     ''
   ].join('\n')

@@ -88,6 +88,8 @@ export interface ReviewRow {
   reviewReason: string | null
   flags: Record<string, unknown>
   answers: Record<string, unknown>
+  /** Questions the visit's conditions hid (stored as not asked, unlike an answer left empty). */
+  notAsked: string[]
   questionnaireVersionId: number
   lat: number | null
   lon: number | null

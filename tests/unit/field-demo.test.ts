@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest'
 import { designFromMatrix, fitBinary } from '../../shared/utils/stats/index'
-import { TRUE_BETA, generateDemo } from '../../server/db/demo/field-demo'
+import { TRUE_BETA, demoChecks, generateDemo } from '../../server/db/demo/field-demo'
 import { questionnaireDefinitionSchema } from '../../shared/utils/schemas/questionnaire'
+import { answersSchemaFor, notAskedKeys } from '../../shared/utils/schemas/visit'
 
 describe('demo field data', () => {
   const demo = generateDemo()
@@ -13,7 +14,19 @@ describe('demo field data', () => {
     expect(again.visits[700]).toEqual(demo.visits[700])
     expect(new Set(demo.visits.map(v => v.id)).size).toBe(1500)
     expect(new Set(demo.visits.map(v => v.farmCode)).size).toBe(1500)
-    expect(questionnaireDefinitionSchema.safeParse({ questions: demo.questions }).success).toBe(true)
+    expect(questionnaireDefinitionSchema.safeParse({ questions: demo.questions, checks: demoChecks() }).success).toBe(true)
+  })
+
+  it('asks the credit source only with credit, and takes several sources of news, each visit passing the schema', () => {
+    const schema = answersSchemaFor(demo.questions, demoChecks())
+    expect(demo.visits.every(v => schema.safeParse(v.answers).success)).toBe(true)
+    const withCredit = demo.visits.filter(v => v.answers.credit_access === true)
+    expect(withCredit.length).toBeGreaterThan(200)
+    expect(withCredit.every(v => typeof v.answers.credit_source === 'string' && notAskedKeys(demo.questions, v.answers).length === 0)).toBe(true)
+    expect(demo.visits.filter(v => v.answers.credit_access === false).every(v => v.answers.credit_source === undefined && notAskedKeys(demo.questions, v.answers)[0] === 'credit_source')).toBe(true)
+    const heard = demo.visits.map(v => v.answers.heard_from as string[])
+    expect(heard.filter(h => h.length >= 2).length).toBeGreaterThan(300)
+    expect(heard.filter(h => h.includes('radio')).length).toBeGreaterThan(500)
   })
 
   it('lets a probit fit recover the signs of the true coefficients', () => {

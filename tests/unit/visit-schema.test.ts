@@ -58,7 +58,7 @@ describe('questionnaire definitions', () => {
     [{ key: 'Bad Key', label: 'x', type: 'yesno' }, 'questions.1.key'],
     [{ key: 'n', label: 'x', type: 'number', min: 5, max: 5 }, 'questions.1.max'],
     [{ key: 'c', label: 'x', type: 'choice', options: [{ value: 'a', label: 'A' }] }, 'questions.1.options'],
-    [{ key: 'c', label: 'x', type: 'choice', options: [{ value: 'a', label: 'A' }, { value: 'a', label: 'B' }] }, 'questions.1.options'],
+    [{ key: 'c', label: 'x', type: 'choice', options: [{ value: 'a', label: 'A' }, { value: 'a', label: 'B' }] }, 'questions.1.options.1.value'],
     [{ key: 'adopted', label: 'again', type: 'yesno', required: true }, 'questions.1.key'],
     [{ key: 'x', label: 'x', type: 'colour' }, 'questions.1.type']
   ])('refuses a bad question %#', (question, path) => {

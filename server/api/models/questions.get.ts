@@ -8,12 +8,14 @@ const querySchema = z.object({ roundId: z.coerce.number().int().positive() })
 export default defineRoleHandler(['coordinator'], async (event, user) => {
   const { roundId } = await getValidatedQuery(event, validateWith(querySchema))
   const context = await roundContext(roundId, user.organisationId)
-  const counts = await visitCounts(context.round.id)
+  const [counts, asking] = await Promise.all([visitCounts(context.round.id), askingCounts(context.round.id, user.organisationId, context.questions)])
   return {
     round: { id: context.round.id, name: context.round.name, technology: context.round.technology },
     outcome: context.questions.find(q => q.key === OUTCOME_KEY) ?? null,
     questions: modelableQuestions(context.questions, OUTCOME_KEY),
     accepted: counts.accepted,
+    /** Conditional questions: answered and not-asked counts among the accepted visits. */
+    asking,
     excluded: counts.excluded
   }
 })

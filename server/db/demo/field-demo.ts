@@ -1,4 +1,5 @@
 import { createHash } from 'node:crypto'
+import type { AnswerCheck } from '../../../shared/utils/schemas/checks'
 import { type Question, outcomeQuestion } from '../../../shared/utils/schemas/questionnaire'
 import { intrinsicFlags } from '../../utils/visit-flags'
 import { normal, prng } from '../../../shared/utils/random/prng'
@@ -47,6 +48,11 @@ function uuidFrom(u: () => number): string {
   return `${s.slice(0, 8)}-${s.slice(8, 12)}-${s.slice(12, 16)}-${s.slice(16, 20)}-${s.slice(20)}`
 }
 
+/** The demo's one check across answers: schooling cannot reach the head's age. */
+export function demoChecks(): AnswerCheck[] {
+  return [{ question: 'schooling_years', test: 'less_than', against: { question: 'age_head' }, message: 'Years of schooling must be fewer than the head\'s age: check both answers with the farmer.' }]
+}
+
 export function demoQuestions(): Question[] {
   return [
     outcomeQuestion(DEMO_TECHNOLOGY),
@@ -60,9 +66,22 @@ export function demoQuestions(): Question[] {
     { key: 'credit_access', label: 'Access to credit this season?', type: 'yesno', required: true },
     { key: 'group_member', label: 'Member of a farmer group?', type: 'yesno', required: true },
     { key: 'livestock_tlu', label: 'Livestock owned', help: 'In tropical livestock units (a cow is 0.7, a goat 0.1).', type: 'number', unit: 'TLU', min: 0, max: 200, required: true },
-    { key: 'owns_phone', label: 'Does someone in the household own a mobile phone?', type: 'yesno', required: true }
+    { key: 'owns_phone', label: 'Does someone in the household own a mobile phone?', type: 'yesno', required: true },
+    // Asked only of households with credit: the others' visits store it as "not asked".
+    {
+      key: 'credit_source', label: 'Where does the credit come from?', type: 'choice', required: true,
+      options: CREDIT_SOURCES.map(([value, label]) => ({ value, label })),
+      askWhen: { join: 'all', tests: [{ question: 'credit_access', test: 'equals', value: true }] }
+    },
+    {
+      key: 'heard_from', label: 'Where did the household hear of the seed?', help: 'Tick every source the farmer names.', type: 'several', required: false,
+      options: HEARD_FROM.map(([value, label]) => ({ value, label }))
+    }
   ]
 }
+
+const CREDIT_SOURCES = [['savings_group', 'Village savings group'], ['dealer_credit', 'Input dealer on credit'], ['microlender', 'Microfinance lender'], ['relative', 'Relative or friend']] as const
+const HEARD_FROM = [['radio', 'Radio programme'], ['neighbour', 'A neighbour'], ['extension_officer', 'Extension officer'], ['dealer', 'Input dealer'], ['field_day', 'Field day']] as const
 
 export interface DemoVillage { code: string, name: string, centreLat: number, centreLon: number, dealerKm: number, effect: number }
 
@@ -73,7 +92,7 @@ export interface DemoVisit {
   lat: number
   lon: number
   accuracyM: number
-  answers: Record<string, number | boolean>
+  answers: Record<string, number | boolean | string | string[]>
   startedAt: Date
   savedAt: Date
   adopted: 0 | 1
@@ -95,6 +114,9 @@ export function generateDemo(seed = DEMO_SEED, n = DEMO_VISITS) {
   const weights = villages.map(() => 1 + 2 * u())
   const total = weights.reduce((a, b) => a + b, 0)
   const questions = demoQuestions()
+  // The credit source and where the farm heard of the seed come from a stream of their own, so the draws above (and
+  // every earlier answer of the demo) stay exactly as they were before these questions existed. Not in the true model.
+  const uExtra = prng(seed + 1)
   const seasonStart = Date.parse('2026-10-05T06:00:00Z')
   const perVillage = new Array<number>(villages.length).fill(0)
   const visits: DemoVisit[] = []
@@ -125,7 +147,7 @@ export function generateDemo(seed = DEMO_SEED, n = DEMO_VISITS) {
     const savedAt = new Date(startedAt.getTime() + (12 + Math.floor(u() * 24)) * 60_000)
     const lat = round6(village.centreLat + (u() - 0.5) * 0.02)
     const lon = round6(village.centreLon + (u() - 0.5) * 0.02)
-    const answers = { adopted: adopted === 1, ...x }
+    const answers: DemoVisit['answers'] = { adopted: adopted === 1, ...x, ...extraAnswers(uExtra, x.credit_access, x.extension_contact) }
     const record = { lat, lon, startedAt: startedAt.toISOString(), savedAt: savedAt.toISOString(), answers }
     visits.push({
       id: uuidFrom(u),
@@ -143,6 +165,15 @@ export function generateDemo(seed = DEMO_SEED, n = DEMO_VISITS) {
     })
   }
   return { villages, questions, visits }
+}
+
+/** The credit source (only with credit: otherwise not asked) and the sources the farm heard of the seed from. */
+function extraAnswers(u: () => number, credit: boolean, extension: boolean): Record<string, string | string[]> {
+  const out: Record<string, string | string[]> = {}
+  if (credit) out.credit_source = CREDIT_SOURCES[Math.min(3, Math.floor(u() * 4))]![0]
+  const chance: Record<string, number> = { radio: 0.45, neighbour: 0.5, extension_officer: extension ? 0.7 : 0.1, dealer: 0.25, field_day: 0.15 }
+  out.heard_from = HEARD_FROM.map(([value]) => value).filter(value => u() < chance[value]!)
+  return out
 }
 
 function round6(v: number) {

@@ -11,6 +11,7 @@ import * as m0050 from './0050-round-visit-target'
 import * as m0060 from './0060-email-per-organisation'
 import * as m0070 from './0070-device-ids-per-enumerator'
 import * as m0110 from './0110-audit-search'
+import * as m0140 from './0140-visit-not-asked'
 import * as m0150 from './0150-personal-data'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
@@ -29,5 +30,6 @@ export const MIGRATIONS = [
   { name: '0060-email-per-organisation', ...m0060 },
   { name: '0070-device-ids-per-enumerator', ...m0070 },
   { name: '0110-audit-search', ...m0110 },
+  { name: '0140-visit-not-asked', ...m0140 },
   { name: '0150-personal-data', ...m0150 }
 ]

@@ -27,6 +27,8 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
   declare accuracyM: number | null
   declare manualLocationReason: string | null
   declare answers: Record<string, unknown>
+  /** Keys of the questions the visit's conditions hid (not asked, as opposed to unanswered); null: none. */
+  declare notAsked: CreationOptional<string[] | null>
   declare consentAt: Date
   declare startedAt: Date
   declare savedAt: Date
@@ -60,6 +62,7 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
       accuracyM: { type: DataTypes.DOUBLE, allowNull: true },
       manualLocationReason: { type: DataTypes.STRING(300), allowNull: true },
       answers: { type: DataTypes.JSON, allowNull: false },
+      notAsked: { type: DataTypes.JSON, allowNull: true },
       consentAt: { type: DataTypes.DATE(3), allowNull: false },
       startedAt: { type: DataTypes.DATE(3), allowNull: false },
       savedAt: { type: DataTypes.DATE(3), allowNull: false },

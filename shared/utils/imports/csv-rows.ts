@@ -1,4 +1,5 @@
 import Papa from 'papaparse'
+import type { AnswerCheck } from '../schemas/checks'
 import { type Question, OUTCOME_KEY } from '../schemas/questionnaire'
 import { answersSchemaFor, farmCodeSchema } from '../schemas/visit'
 import { ownValue } from '../schemas/safe-text'
@@ -103,6 +104,13 @@ function typed(q: Question, cell: string, words: { yes: Set<string>, no: Set<str
       const w = s.toLowerCase()
       return q.options.find(o => o.value === w || o.label.toLowerCase() === w)?.value ?? s
     }
+    case 'several':
+      // Several answers in one cell, separated by ; or | (a comma may be the file's own separator), each an option's
+      // code or label; what matches no option stays as typed, so the schema names it.
+      return s.split(/[;|]/).map(part => part.trim()).filter(Boolean).map((part) => {
+        const w = part.toLowerCase()
+        return q.options.find(o => o.value === w || o.label.toLowerCase() === w)?.value ?? part
+      })
     default:
       return s
   }
@@ -136,7 +144,7 @@ export function visitDayOf(raw: string, today: string): { day: string } | { prob
 }
 
 /** Maps and checks every record: farm code, village of the round, and the answers with the questionnaire's schema. */
-export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[], today = new Date().toISOString().slice(0, 10)): CheckResult {
+export function checkRows(parsed: ParsedCsv, questions: readonly Question[], request: ImportRequest, villageCodes: readonly string[], today = new Date().toISOString().slice(0, 10), checks: readonly AnswerCheck[] = []): CheckResult {
   const decimalComma = parsed.delimiter !== ','
   const index = new Map(parsed.columns.map((c, i) => [c, i]))
   const columnOf = (key: string) => ownValue(request.mapping.questions, key)
@@ -146,7 +154,7 @@ export function checkRows(parsed: ParsedCsv, questions: readonly Question[], req
     ? `Choose the column with the outcome (${OUTCOME_KEY}): it is required.`
     : `Choose a column for the required question "${q.label}" (${q.key}).`)
   const skip = new Set(unmappedRequired.map(q => q.key))
-  const schema = answersSchemaFor(questions)
+  const schema = answersSchemaFor(questions, checks)
   const extra = request.yesNoWords
   const words = {
     yes: new Set([...YES, ...(extra?.yes ? [extra.yes.toLowerCase()] : [])]),

@@ -2,9 +2,13 @@ import { z } from 'zod'
 import { safeText } from '../schemas/safe-text'
 
 const key = z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Unknown question key')
+/** A question's key, or question.option for one option of a several-answer question (one yes/no term). */
+const termKey = z.string().regex(/^[a-z][a-z0-9_]{0,39}(\.[a-z0-9_]{1,40})?$/, 'Unknown question key')
 
 export const covariateChoiceSchema = z.object({
-  key,
+  key: termKey,
+  /** Questions asked under a condition: farms not asked count as 0 (their own group for a choice), or are left out. */
+  notAsked: z.enum(['zero', 'asked-only']).optional(),
   transform: z.enum(['log', 'centre']).optional(),
   square: z.boolean().optional(),
   /** Choice questions: the option the others are compared with. */
@@ -61,7 +65,7 @@ export const checksChoiceSchema = z.object({
 export const modelRequestSchema = z.object({
   roundId: z.coerce.number().int().positive(),
   covariates: z.array(covariateChoiceSchema).min(1, 'Choose at least one farm characteristic').max(30),
-  interactions: z.array(z.tuple([key, key])).max(10).default([]),
+  interactions: z.array(z.tuple([termKey, termKey])).max(10).default([]),
   link: z.enum(LINK_CHOICES).default('probit'),
   se: z.enum(SE_CHOICES).default('cluster'),
   weights: key.optional(),
@@ -92,7 +96,7 @@ export type ModelRequestInput = z.input<typeof modelRequestSchema>
 /** A counterfactual the coordinator asks for: set a characteristic for everyone, or shift it, maybe in some villages. */
 export const scenarioRequestSchema = z.object({
   name: safeText(z.string().trim().min(1, 'Name the scenario').max(80)),
-  covariate: key,
+  covariate: termKey,
   set: z.union([z.number().finite(), safeText(z.string().max(40)), z.boolean()]).optional(),
   shift: z.number().finite().optional(),
   villages: z.array(safeText(z.string().max(40))).max(500).optional()

@@ -1,5 +1,6 @@
 import type { CovariateSpec, ModelSpec } from '../stats/types'
-import { displayLabel, modelableQuestions, type ModelQuestion } from './questions'
+import { conditionText } from '../asking'
+import { NOT_ASKED_LEVEL, displayLabel, modelableQuestions, type ModelQuestion } from './questions'
 import type { ModelRequest } from './request'
 
 export const VILLAGE_COLUMN = 'village'
@@ -20,8 +21,22 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
   const usable = new Map(modelableQuestions(questions, outcomeKey).map(q => [q.key, q]))
   const outcome = questions.find(q => q.key === outcomeKey)
   const covariates: CovariateSpec[] = request.covariates.map((choice, i) => {
-    const question = usable.get(choice.key)
-    if (!question) throw new ModelRequestError(`covariates.${i}`, `"${choice.key}" is not a number, yes/no or choice question of this round`)
+    const [questionKey, optionCode] = choice.key.split('.') as [string, string | undefined]
+    const question = usable.get(questionKey)
+    if (!question) throw new ModelRequestError(`covariates.${i}`, `"${choice.key}" is not a number, yes/no, choice or several-answer question of this round`)
+    // A question asked under a condition: the farms not asked must be treated explicitly, never silently.
+    if (question.askWhen && !choice.notAsked) {
+      throw new ModelRequestError(`covariates.${i}`, `${question.label} is asked only when ${conditionText(question.askWhen, questions)}: choose whether farms not asked count as 0 or are left out`)
+    }
+    if (!question.askWhen && choice.notAsked) throw new ModelRequestError(`covariates.${i}`, `${question.label} is asked at every farm: there are no farms not asked`)
+    const notAsked = question.askWhen ? { notAsked: choice.notAsked } : {}
+    if (question.type === 'several') {
+      const option = question.options?.find(o => o.value === optionCode)
+      if (!option) throw new ModelRequestError(`covariates.${i}`, `${question.label}: choose its options one by one (each is a yes/no term)`)
+      if (choice.transform || choice.square || choice.reference) throw new ModelRequestError(`covariates.${i}`, `${question.label}: an option is a yes/no term, with no transform or reference`)
+      return { name: choice.key, label: `${question.label}: ${option.label}`, type: 'yesno', ...notAsked }
+    }
+    if (optionCode !== undefined) throw new ModelRequestError(`covariates.${i}`, `${question.label} has no separate options to model`)
     const numeric = question.type === 'number' || question.type === 'whole'
     if ((choice.transform || choice.square) && !numeric) {
       throw new ModelRequestError(`covariates.${i}`, `${question.label}: transforms apply to numbers only`)
@@ -30,11 +45,12 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
       const levels = (question.options ?? []).map(o => o.value)
       const reference = choice.reference ?? levels[0]
       if (!reference || !levels.includes(reference)) throw new ModelRequestError(`covariates.${i}`, `${question.label}: unknown reference option "${choice.reference}"`)
-      return { name: question.key, label: question.label, type: 'categorical', levels, reference }
+      // Coded as their own group, the farms not asked get a level of their own (compared with the reference too).
+      return { name: question.key, label: question.label, type: 'categorical', levels: choice.notAsked === 'zero' ? [...levels, NOT_ASKED_LEVEL] : levels, reference, ...notAsked }
     }
     if (choice.reference) throw new ModelRequestError(`covariates.${i}`, `${question.label}: a reference option applies to choice questions only`)
-    if (question.type === 'yesno') return { name: question.key, label: question.label, type: 'yesno' }
-    return { name: question.key, label: displayLabel(question), type: 'numeric', transform: choice.transform, square: choice.square }
+    if (question.type === 'yesno') return { name: question.key, label: question.label, type: 'yesno', ...notAsked }
+    return { name: question.key, label: displayLabel(question), type: 'numeric', transform: choice.transform, square: choice.square, ...notAsked }
   })
   if (request.weights && !questions.some(q => q.key === request.weights && (q.type === 'number' || q.type === 'whole'))) {
     throw new ModelRequestError('weights', 'Sampling weights must come from a number question')

@@ -1,4 +1,7 @@
 import { z } from 'zod'
+import { failedChecks } from '../answer-checks'
+import { askedQuestions, conditionText, isNoAnswer } from '../asking'
+import type { AnswerCheck } from './checks'
 import { OUTCOME_KEY, type Question, type QuestionnaireVersionDto } from './questionnaire'
 import { ownValue, safeText } from './safe-text'
 
@@ -42,6 +45,12 @@ function answerSchema(q: Question): z.ZodType {
       return z.boolean({ error: 'Choose yes or no' })
     case 'choice':
       return z.enum(q.options.map(o => o.value) as [string, ...string[]], { error: 'Choose one of the listed answers' })
+    case 'several': {
+      const codes = q.options.map(o => o.value) as [string, ...string[]]
+      return z.array(z.enum(codes, { error: 'Choose among the listed answers' }), { error: 'Tick the answers that apply' })
+        .max(codes.length)
+        .refine(list => new Set(list).size === list.length, 'An answer is ticked twice')
+    }
     case 'date':
       return isoDate
     case 'text':
@@ -49,16 +58,43 @@ function answerSchema(q: Question): z.ZodType {
   }
 }
 
-/** The answers object of one questionnaire: unknown keys are refused, optional answers may be absent or null. */
-export function answersSchemaFor(questions: readonly Question[]) {
+const REQUIRED = 'This answer is required'
+
+/**
+ * The answers object of one questionnaire: unknown keys are refused, optional answers may be absent or null.
+ * Questions with a condition are checked after the shape, with the shared evaluator: a question the condition hides
+ * must have no answer (it is "not asked"), and "required" applies only when it is asked.
+ */
+export function answersSchemaFor(questions: readonly Question[], checks: readonly AnswerCheck[] = []) {
   const shape: Record<string, z.ZodType> = {}
   for (const q of questions) {
     const s = answerSchema(q)
-    shape[q.key] = q.required
-      ? z.unknown().refine(v => v !== undefined && v !== null && v !== '', 'This answer is required').pipe(s)
+    shape[q.key] = q.required && !q.askWhen
+      ? z.unknown().refine(v => !isNoAnswer(v), REQUIRED).pipe(s)
       : s.nullable().optional()
   }
-  return z.strictObject(shape, { error: issue => issue.code === 'unrecognized_keys' ? `Not a question of this questionnaire: ${issue.keys.join(', ')}` : 'Answers must be an object' })
+  const object = z.strictObject(shape, { error: issue => issue.code === 'unrecognized_keys' ? `Not a question of this questionnaire: ${issue.keys.join(', ')}` : 'Answers must be an object' })
+  if (!questions.some(q => q.askWhen) && !checks.length) return object
+  // Runs even when another answer has the wrong type, so every hidden answer is named at once.
+  return object.check(z.superRefine((answers: Record<string, unknown>, ctx) => {
+    if (!answers || typeof answers !== 'object' || Array.isArray(answers)) return
+    const { notAsked } = askedQuestions(questions, answers)
+    for (const q of questions) {
+      if (!q.askWhen) continue
+      const value = ownValue(answers, q.key)
+      if (notAsked.includes(q.key)) {
+        if (!isNoAnswer(value)) ctx.addIssue({ code: 'custom', path: [q.key], message: `Not asked at this farm (asked only when ${conditionText(q.askWhen, questions)}): leave it empty` })
+      }
+      else if (q.required && isNoAnswer(value)) ctx.addIssue({ code: 'custom', path: [q.key], message: REQUIRED })
+    }
+    // The coordinator's checks across answers, with their own messages, under the answer checked.
+    for (const f of failedChecks(questions, checks, answers)) ctx.addIssue({ code: 'custom', path: [f.question], message: f.message })
+  }, { when: () => true }))
+}
+
+/** The keys of the questions these answers leave not asked (what the server stores beside the answers). */
+export function notAskedKeys(questions: readonly Question[], answers: Answers): string[] {
+  return askedQuestions(questions, answers).notAsked
 }
 
 /** The fields every visit has, whatever its questionnaire: enough to route a record to its schema. */
@@ -79,7 +115,7 @@ function buildVisitSchema(version: QuestionnaireVersionDto) {
     questionnaireVersionId: z.literal(version.id, { error: 'Answered with another questionnaire version' }),
     farmCode: farmCodeSchema,
     location: locationSchema,
-    answers: answersSchemaFor(version.definition.questions),
+    answers: answersSchemaFor(version.definition.questions, version.definition.checks),
     consent: z.literal(true, { error: 'The farmer\'s informed consent is required' }),
     consentAt: isoInstant,
     startedAt: isoInstant,

@@ -28,6 +28,11 @@ export interface CovariateSpec {
   reference?: string
   /** Categorical only: level order. Default: the levels found, sorted. */
   levels?: string[]
+  /**
+   * Read by the data loader only (the engine ignores it): a question asked under a condition, and what the farms not
+   * asked get: 'zero' (0, no, or the choice's own "(not asked)" level) or 'asked-only' (left out, like missing).
+   */
+  notAsked?: 'zero' | 'asked-only'
 }
 
 export type CovarianceType = 'conventional' | 'hc0' | 'hc1' | 'cluster' | 'survey'

@@ -6,7 +6,11 @@ const questions: ModelQuestion[] = [
   { key: 'farm_size', label: 'Farm size', type: 'number', unit: 'ha' },
   { key: 'extension', label: 'Extension contact last season', type: 'yesno' },
   { key: 'soil', label: 'Soil type', type: 'choice', options: [{ value: 'loam', label: 'Loam' }, { value: 'clay', label: 'Clay' }, { value: 'sand', label: 'Sand' }] },
-  { key: 'visit_date', label: 'Date', type: 'date' }
+  { key: 'visit_date', label: 'Date', type: 'date' },
+  { key: 'credit', label: 'Access to credit', type: 'yesno' },
+  { key: 'credit_source', label: 'Credit source', type: 'choice', options: [{ value: 'bank', label: 'Bank' }, { value: 'group', label: 'Savings group' }], askWhen: { join: 'all', tests: [{ question: 'credit', test: 'equals', value: true }] } },
+  { key: 'heard', label: 'Heard from', type: 'several', options: [{ value: 'radio', label: 'Radio' }, { value: 'neighbour', label: 'Neighbour' }] },
+  { key: 'seed_kg', label: 'Seed bought', type: 'number', unit: 'kg', askWhen: { join: 'all', tests: [{ question: 'credit', test: 'equals', value: true }] } }
 ]
 
 const request = (body: unknown) => modelRequestSchema.parse(body)
@@ -41,8 +45,8 @@ describe('model builder choices → engine specification', () => {
   })
 
   it.each([
-    [{ covariates: [{ key: 'visit_date' }] }, /not a number, yes\/no or choice/],
-    [{ covariates: [{ key: 'adopted' }] }, /not a number, yes\/no or choice/],
+    [{ covariates: [{ key: 'visit_date' }] }, /not a number, yes\/no, choice or several-answer/],
+    [{ covariates: [{ key: 'adopted' }] }, /not a number, yes\/no, choice or several-answer/],
     [{ covariates: [{ key: 'extension', square: true }] }, /numbers only/],
     [{ covariates: [{ key: 'soil', reference: 'peat' }] }, /unknown reference/],
     [{ covariates: [{ key: 'farm_size', reference: 'x' }] }, /choice questions only/],
@@ -50,6 +54,27 @@ describe('model builder choices → engine specification', () => {
   ])('refuses %j', (body, message) => {
     expect(() => specFromRequest(request({ roundId: 1, ...body }), questions, 'adopted')).toThrow(ModelRequestError)
     expect(() => specFromRequest(request({ roundId: 1, ...body }), questions, 'adopted')).toThrow(message)
+  })
+
+  it('offers one yes/no term per option of a several-answer question, and never the question as a whole', () => {
+    const spec = specFromRequest(request({ roundId: 1, covariates: [{ key: 'heard.radio' }, { key: 'heard.neighbour' }] }), questions, 'adopted')
+    expect(spec.covariates).toEqual([
+      { name: 'heard.radio', label: 'Heard from: Radio', type: 'yesno' },
+      { name: 'heard.neighbour', label: 'Heard from: Neighbour', type: 'yesno' }
+    ])
+    expect(() => specFromRequest(request({ roundId: 1, covariates: [{ key: 'heard' }] }), questions, 'adopted')).toThrow(/choose its options one by one/)
+    expect(() => specFromRequest(request({ roundId: 1, covariates: [{ key: 'heard.tv' }] }), questions, 'adopted')).toThrow(/choose its options one by one/)
+    expect(() => specFromRequest(request({ roundId: 1, covariates: [{ key: 'farm_size.x' }] }), questions, 'adopted')).toThrow(/no separate options/)
+  })
+
+  it('makes the coordinator say how farms not asked a conditional question are treated', () => {
+    expect(() => specFromRequest(request({ roundId: 1, covariates: [{ key: 'seed_kg' }] }), questions, 'adopted'))
+      .toThrow('Seed bought is asked only when Access to credit is Yes: choose whether farms not asked count as 0 or are left out')
+    expect(() => specFromRequest(request({ roundId: 1, covariates: [{ key: 'farm_size', notAsked: 'zero' }] }), questions, 'adopted')).toThrow(/asked at every farm/)
+    const spec = specFromRequest(request({ roundId: 1, covariates: [{ key: 'seed_kg', notAsked: 'asked-only' }, { key: 'credit_source', notAsked: 'zero' }] }), questions, 'adopted')
+    expect(spec.covariates[0]).toMatchObject({ name: 'seed_kg', type: 'numeric', notAsked: 'asked-only' })
+    // Counted as "0", a choice's farms not asked form a group of their own beside the options.
+    expect(spec.covariates[1]).toMatchObject({ name: 'credit_source', type: 'categorical', levels: ['bank', 'group', '(not asked)'], reference: 'bank', notAsked: 'zero' })
   })
 
   it('checks interactions and duplicates in the request schema itself', () => {
