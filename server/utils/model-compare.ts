@@ -13,9 +13,12 @@ export interface NestedTest {
  * Side-by-side terms, fit statistics and likelihood-ratio tests for each pair of runs where one is nested
  * in the other: same link, same rows used (equal hashes), and every term of the smaller one in the larger.
  */
+// Rows are named as on the results page: the engine's constant term reads as words, the trade term beside them.
+const rowName = (c: { term: string, label: string }) => c.term === '(Intercept)' ? 'Baseline (intercept)' : c.label
+
 export function compareRuns(runs: ModelRun[]) {
   const done = runs.filter(r => r.status === 'done' && r.results)
-  const terms = [...new Set(done.flatMap(r => r.results!.coefficients.map(c => c.label)))]
+  const terms = [...new Set(done.flatMap(r => r.results!.coefficients.map(rowName)))]
   const effects = [...new Set(done.flatMap(r => r.results!.margins?.effects.map(e => e.label) ?? []))]
   const tests: NestedTest[] = []
   const notComparable: string[] = []
@@ -54,7 +57,7 @@ export function compareRuns(runs: ModelRun[]) {
       aic: r.results!.fit.aic,
       bic: r.results!.fit.bic,
       sameRowsAs: done.filter(o => o.id !== r.id && o.usedRowsHash === r.usedRowsHash).map(o => o.id),
-      coefficients: Object.fromEntries(r.results!.coefficients.map(c => [c.label, { estimate: c.estimate, se: c.se, p: c.p }])),
+      coefficients: Object.fromEntries(r.results!.coefficients.map(c => [rowName(c), { estimate: c.estimate, se: c.se, p: c.p }])),
       effects: Object.fromEntries((r.results!.margins?.effects ?? []).map(e => [e.label, { estimate: e.estimate, se: e.se, p: e.p }]))
     })),
     terms,

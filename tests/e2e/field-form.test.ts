@@ -120,7 +120,7 @@ describe('the tablet form in the order of a real interview', () => {
     await row.getByRole('link').click()
     const readOnly = page.getByTestId('visit-read-only')
     await poll(() => readOnly.innerText()).toContain('It can no longer be changed on this tablet')
-    expect(await readOnly.innerText()).toContain('-13.0921, 31.4507 (typed)')
+    expect(await readOnly.innerText()).toContain('-13.0921, 31.4507 (typed or picked on the map, not GPS)')
     expect(await page.locator('form input').count()).toBe(0)
     expect(await page.getByRole('button', { name: 'Save visit' }).count()).toBe(0)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'field-form-synced.png'), fullPage: true })

@@ -26,7 +26,8 @@ describe('migrations and the demo seed', () => {
     }
     expect(await seedDemo(sequelize, mustNotHash)).toBe(false)
     expect({ organisations: await Organisation.count(), users: await User.count() }).toEqual(before)
-    const roles = (await User.findAll({ where: { email: DEMO.users.map(u => u.email) } })).map(u => u.role).sort()
+    const demo = await Organisation.findOne({ where: { slug: DEMO.organisation.slug } })
+    const roles = (await User.findAll({ where: { email: DEMO.users.map(u => u.email), organisationId: demo!.id } })).map(u => u.role).sort()
     expect(roles).toEqual(['admin', 'coordinator', 'enumerator', 'funder'])
   })
 
@@ -36,8 +37,8 @@ describe('migrations and the demo seed', () => {
     expect(user?.passwordHash).not.toContain(DEMO.password)
   })
 
-  it('refuses a second user with the same e-mail', async () => {
-    const organisation = await Organisation.findOne()
+  it('refuses a second user with the same e-mail in the same organisation', async () => {
+    const organisation = await Organisation.findOne({ where: { slug: DEMO.organisation.slug } })
     await expect(User.create({
       organisationId: organisation!.id,
       email: DEMO.users[0]!.email,
