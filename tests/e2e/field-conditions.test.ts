@@ -136,6 +136,8 @@ describe('conditions and several answers on a tablet with no network', () => {
     const openFarm = async (code: string) => {
       await review.getByLabel('Farm code').fill(code)
       await poll(() => review.getByTestId('review-row').count()).toBe(1)
+      // The filter applies after a pause: until then the single row may still be the farm opened before.
+      await poll(() => review.getByTestId('review-row').first().textContent()).toContain(code)
       await review.getByTestId('review-row').first().click()
       await poll(() => review.getByTestId('review-panel').textContent()).toContain(`Farm ${code}`)
       return review.getByTestId('review-answers')
