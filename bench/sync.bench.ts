@@ -9,7 +9,14 @@
  * Run: npx tsx bench/sync.bench.ts
  * Settings: FURROWCAST_BENCH_PORT, FURROWCAST_BENCH_SMTP_PORT, FURROWCAST_BENCH_S3_PORT,
  *   FURROWCAST_BENCH_SYNC_SECONDS (60, each batched run), FURROWCAST_BENCH_SYNC_PEER_SECONDS (20, each peer run),
- *   FURROWCAST_BENCH_SYNC_DEVICES (50,200).
+ *   FURROWCAST_BENCH_SYNC_DEVICES (50,200), FURROWCAST_BENCH_SYNC_OFFERED (3000 visits/s for the paced run).
+ *
+ * Two ways of loading the server, both printed: flat out (every device sends its next batch the moment the last one
+ * is answered: the most the server can take, where latency is by Little's law devices × batch / throughput, 1.7 s
+ * at 50 devices and 3,000 visits/s) and paced (each device sends a batch on its own clock, spread over the interval,
+ * so that all together offer FURROWCAST_BENCH_SYNC_OFFERED visits/s, as tablets that sync on their own schedules
+ * do; a device whose answer comes late sends its next batch at once). The paced run shows the latency an enumerator
+ * sees at that load; the flat-out run the capacity.
  */
 import { readFileSync } from 'node:fs'
 import { loadavg } from 'node:os'
@@ -23,6 +30,7 @@ const BATCH = 100
 const SECONDS = Number(process.env.FURROWCAST_BENCH_SYNC_SECONDS ?? 60)
 const PEER_SECONDS = Number(process.env.FURROWCAST_BENCH_SYNC_PEER_SECONDS ?? 20)
 const DEVICES = (process.env.FURROWCAST_BENCH_SYNC_DEVICES ?? '50,200').split(',').map(Number)
+const OFFERED = Number(process.env.FURROWCAST_BENCH_SYNC_OFFERED ?? 3000)
 
 interface Run { devices: number, batch: number, seconds: number, stored: number, latencies: number[], byStatus: Map<number, number>, networkErrors: number, cpu: { app: number, database: number, client: number } }
 
@@ -91,13 +99,20 @@ async function main() {
       await Promise.all(group)
     }
 
-    async function run(devices: number, batch: number, seconds: number): Promise<Run> {
+    /** intervalMs: paced, each device sends a batch every intervalMs from a random phase; absent: flat out. */
+    async function run(devices: number, batch: number, seconds: number, intervalMs?: number): Promise<Run> {
       const result: Run = { devices, batch, seconds, stored: 0, latencies: [], byStatus: new Map(), networkErrors: 0, cpu: { app: 0, database: 0, client: 0 } }
       const cpuBefore = { app: cpuSeconds(stack.server.pid!), database: cpuSeconds(runningMariadbPid()), client: process.cpuUsage() }
       const until = Date.now() + seconds * 1000
       await Promise.all(tablets.slice(0, devices).map(async (tablet) => {
         let visits = Array.from({ length: batch }, () => makeVisit(testRound))
+        let next = Date.now() + (intervalMs ? Math.random() * intervalMs : 0)
         while (Date.now() < until) {
+          if (intervalMs) {
+            if (next > Date.now()) await new Promise(resolve => setTimeout(resolve, next - Date.now()))
+            if (Date.now() >= until) break
+            next = Math.max(next + intervalMs, Date.now())
+          }
           const t0 = performance.now()
           const answer = await tablet.post<{ counts?: { stored: number, duplicate: number } }>('/api/sync/visits', { visits }).catch(() => null)
           result.latencies.push(performance.now() - t0)
@@ -149,8 +164,9 @@ async function main() {
     }
     for (const devices of DEVICES) {
       const ours = describe(await run(devices, BATCH, SECONDS))
+      const paced = describe(await run(devices, BATCH, SECONDS, devices * BATCH / OFFERED * 1000))
       const peer = describe(await run(devices, 1, PEER_SECONDS))
-      for (const [label, d] of [[`${devices} devices, batches of ${BATCH}`, ours], [`${devices} devices, one request per visit`, peer]] as const) {
+      for (const [label, d] of [[`${devices} devices, batches of ${BATCH}, flat out`, ours], [`${devices} devices, batches of ${BATCH}, paced at ${OFFERED}/s offered`, paced], [`${devices} devices, one request per visit`, peer]] as const) {
         const ceiling = 2 / ((d.appCpuPer1000 + d.dbCpuPer1000) / 1000)
         rows.push([label, String(Math.round(d.visitsPerS)), d.p50.toFixed(0), d.p95.toFixed(0), d.p99.toFixed(0), String(d.requests), String(d.s5xx), String(d.s503), String(d.s429),
           `${d.appCpuPer1000.toFixed(2)} + ${d.dbCpuPer1000.toFixed(2)}`, String(Math.round(ceiling))])
@@ -177,6 +193,12 @@ async function main() {
           db_cpu_s_per_1000: round(ours.dbCpuPer1000, 3),
           ceiling_visits_per_s: Math.round(2000 / (ours.appCpuPer1000 + ours.dbCpuPer1000)),
           load_average: round(loadavg()[0]!, 1),
+          paced_offered_visits_per_s: OFFERED,
+          paced_visits_per_s: Math.round(paced.visitsPerS),
+          paced_p50_ms: round(paced.p50),
+          paced_p95_ms: round(paced.p95),
+          paced_p99_ms: round(paced.p99),
+          paced_answers_5xx: paced.s5xx,
           peer_seconds: PEER_SECONDS,
           peer_visits_per_s: Math.round(peer.visitsPerS),
           peer_p50_ms: round(peer.p50),
@@ -190,6 +212,7 @@ async function main() {
     printTable(['run', 'visits/s', 'p50 ms', 'p95 ms', 'p99 ms', 'requests', '5xx', '503', '429', 'CPU s/1,000 (app + db)', 'ceiling/s'], rows)
     console.log(`ceiling: visits/s if the app server and MariaDB had both cores to themselves (load average now ${loadavg()[0]!.toFixed(1)})`)
     console.log('targets: 0 answers 5xx (503 included); p95 under 1,000 ms at 50 devices; at least 3,000 visits/s')
+    console.log(`flat out, the latency is devices × ${BATCH} / visits/s by Little's law; paced, it is what a tablet waits at the offered load`)
     mergeResults(entries)
   }
   finally {

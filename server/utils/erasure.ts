@@ -128,11 +128,23 @@ export async function isErasedVisit(visitId: string): Promise<boolean> {
   return rows.length > 0
 }
 
-/** The farm keys, among these farm codes, that were erased in the organisation. */
-export async function erasedFarmCodes(organisationId: number, farmCodes: string[]): Promise<Set<string>> {
-  if (!farmCodes.length) return new Set()
+/**
+ * Among a sync batch's farm codes and device ids: the codes whose farm was erased in the organisation, and the ids
+ * of this enumerator's visits that were erased (matched by the id the tablet knows, migration 0070). One round trip:
+ * it runs for every batch, on the sync hot path.
+ */
+export async function erasedAmong(organisationId: number, enumeratorId: number, farmCodes: string[], deviceIds: string[]): Promise<{ codes: Set<string>, ids: Set<string> }> {
+  if (!farmCodes.length && !deviceIds.length) return { codes: new Set(), ids: new Set() }
   const byKey = new Map(farmCodes.map(code => [farmKeyOf(organisationId, code), code]))
-  const rows = await database().query<{ farmKey: string }>('SELECT DISTINCT farm_key AS farmKey FROM erasures WHERE organisation_id = ? AND farm_key IN (?)',
-    { replacements: [organisationId, [...byKey.keys()]], type: QueryTypes.SELECT })
-  return new Set(rows.map(r => byKey.get(r.farmKey)!))
+  const rows = await database().query<{ kind: 'farm' | 'visit', k: string }>(
+    `SELECT 'farm' AS kind, farm_key AS k FROM erasures WHERE organisation_id = ? AND farm_key IN (?)
+     UNION ALL SELECT 'visit', device_key FROM erased_visits WHERE enumerator_id = ? AND device_key IN (?)`,
+    { replacements: [organisationId, byKey.size ? [...byKey.keys()] : [''], enumeratorId, deviceIds.length ? deviceIds : ['']], type: QueryTypes.SELECT })
+  const codes = new Set<string>()
+  const ids = new Set<string>()
+  for (const r of rows) {
+    if (r.kind === 'farm') codes.add(byKey.get(r.k)!)
+    else ids.add(r.k)
+  }
+  return { codes, ids }
 }

@@ -5,7 +5,7 @@ import { type ServerVisit, type SyncAnswer, type SyncResult, type SyncStatus, ad
 import { fieldErrorsOf } from '#shared/utils/zod-errors'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'
-import { erasedFarmCodes } from './erasure'
+import { erasedAmong } from './erasure'
 import { intrinsicFlags } from './visit-flags'
 
 interface Actor { id: number, organisationId: number }
@@ -169,12 +169,7 @@ type Valid = Extract<Checked, { input: VisitInput }>
 async function withoutErasedFarms(actor: Actor, checked: Checked[]): Promise<Checked[]> {
   const valid = checked.flatMap(c => 'input' in c ? [c.input] : [])
   if (!valid.length) return checked
-  const [codes, ids] = await Promise.all([
-    erasedFarmCodes(actor.organisationId, [...new Set(valid.map(v => v.farmCode))]),
-    // Matched in the enumerator's own space, by the id the tablet knows (migration 0070), like every sync lookup.
-    database().query<{ id: string }>('SELECT device_key AS id FROM erased_visits WHERE enumerator_id = ? AND device_key IN (?)', { replacements: [actor.id, valid.map(v => v.id)], type: QueryTypes.SELECT })
-  ])
-  const erasedIds = new Set(ids.map(r => r.id))
+  const { codes, ids: erasedIds } = await erasedAmong(actor.organisationId, actor.id, [...new Set(valid.map(v => v.farmCode))], valid.map(v => v.id))
   return checked.map(c => 'input' in c && (codes.has(c.input.farmCode) || erasedIds.has(c.input.id))
     ? { index: c.index, result: { id: c.input.id, status: 'erased' } }
     : c)

@@ -1,9 +1,8 @@
 import type { H3Event } from 'h3'
-import { Op, UniqueConstraintError } from 'sequelize'
+import { UniqueConstraintError } from 'sequelize'
 import type { ForgotInput, SetPasswordInput, TokenCheckInput } from '#shared/utils/schemas/team'
 import type { TokenCheckAnswer } from '#shared/types/team'
 import type { TokenPurpose } from '../db/models'
-import { Organisation, User } from '../db/models'
 import { database } from '../db/connection'
 import type { TokenCheck, TokenProblem } from './tokens'
 
@@ -70,7 +69,7 @@ export async function requestPasswordReset(event: H3Event, input: ForgotInput) {
   // Beyond a few requests per address and window, nothing more is sent: a mailbox is not to be flooded.
   const flooded = await recentEvents('reset-email', input.email) >= config.RESET_MAX_PER_EMAIL
   await recordEvent('reset-email', input.email)
-  const user = await User.findOne({ where: { email: input.email, passwordHash: { [Op.ne]: null } }, include: [{ model: Organisation, as: 'organisation' }] })
+  const user = await accountForSignIn(input.email)
   if (user && user.active && user.passwordHash && !flooded) {
     await database().transaction(async (transaction) => {
       const { token } = await issueToken({ userId: user.id, purpose: 'reset', validMs: config.RESET_MINUTES * 60_000, createdByUserId: null }, transaction)

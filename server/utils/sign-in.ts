@@ -1,8 +1,5 @@
 import type { H3Event } from 'h3'
-import { Op } from 'sequelize'
 import type { SignInInput } from '#shared/utils/schemas/auth'
-import { Organisation, User } from '../db/models'
-import type { SignedInUser } from './access'
 
 // Compared against when the e-mail is unknown, so both paths cost one scrypt verification.
 let decoyHash: string | undefined
@@ -20,7 +17,7 @@ export async function signIn(event: H3Event, input: SignInInput) {
   }
 
   // Only one account per address holds a password (see migration 0060); invited-only rows cannot sign in.
-  const user = await User.findOne({ where: { email: input.email, passwordHash: { [Op.ne]: null } }, include: [{ model: Organisation, as: 'organisation' }] }) as SignedInUser | null
+  const user = await accountForSignIn(input.email)
   decoyHash ??= await hashPassword('decoy password that matches nothing')
   const passwordOk = await verifyPassword(user?.passwordHash ?? decoyHash, input.password)
   if (!user || !user.passwordHash || !passwordOk) {
