@@ -7,7 +7,7 @@
  * JSON_VALUE per answer) piped into pandas.read_csv, then statsmodels Probit with cluster SEs and get_margeff().
  * Also printed: the POST's answer time, a GET's answer time after the fit, and the server's peak RSS against the
  * size of the design matrix. ratio = ours_ms / peer_ms.
- * Run: npx tsx bench/app-fit.bench.ts  (ports: FURROWCAST_BENCH_PORT, FURROWCAST_BENCH_SMTP_PORT, FURROWCAST_BENCH_S3_PORT)
+ * Run: npx tsx bench/app-fit.bench.ts  (sizes: FURROWCAST_BENCH_APP_FIT_SIZES, default 1e5,1e6; ports: FURROWCAST_BENCH_PORT, FURROWCAST_BENCH_SMTP_PORT, FURROWCAST_BENCH_S3_PORT)
  */
 import { spawn } from 'node:child_process'
 import { readFileSync } from 'node:fs'
@@ -17,7 +17,7 @@ import { startStack } from '../scripts/lib/stack.mjs'
 import { DATA, findExecutable } from '../scripts/lib/system.mjs'
 import { loadAverage, mergeResults, printTable, round, type BenchEntry } from './lib/results-file'
 
-const SIZES = [1e5, 1e6]
+const SIZES = (process.env.FURROWCAST_BENCH_APP_FIT_SIZES ?? '1e5,1e6').split(',').map(Number)
 const K = 10
 const VILLAGES = 500
 const PYTHON = '/usr/bin/python3'
