@@ -144,7 +144,7 @@ describe('a questionnaire in two languages', () => {
     await poll(() => missing.innerText()).toContain('Kiswahili: 2 texts are missing')
     await page.screenshot({ path: path.join(SCREENSHOTS, 'builder-languages-missing.png'), fullPage: true })
     await page.getByRole('button', { name: 'Save questionnaire' }).click()
-    await poll(() => page.getByRole('alert').filter({ hasText: 'Not saved' }).innerText()).toContain('A translation is missing.')
+    await poll(() => page.getByRole('alert').filter({ hasText: 'Not saved' }).innerText()).toContain('A translation is missing or refused: see Languages.')
     // The server's message sits under the very input that lacks its text.
     const outcomeRow = table.getByTestId('translation-adopted')
     await poll(() => outcomeRow.innerText()).toContain('Kiswahili (sw): no text for "Has this farm adopted hermetic storage bags this season?"')
