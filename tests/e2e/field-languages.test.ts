@@ -160,6 +160,15 @@ describe('a questionnaire in two languages', () => {
     const version = await QuestionnaireVersion.findByPk(round!.currentVersionId!)
     expect(version!.definition.languages).toEqual([{ code: 'en', name: 'English' }, { code: 'sw', name: 'Kiswahili' }])
     expect(version!.definition.translations!.sw!.where_are_the_bags_kept).toEqual({ label: 'Mifuko inahifadhiwa wapi?', options: { in_the_house: 'Ndani ya nyumba', in_a_granary: 'Ghalani' } })
+
+    // The demo round, open and complete in Kiswahili: each text beside its English one, the check's message too.
+    const demo = await Round.findOne({ where: { name: 'Sorghum seed adoption, 2026 short rains' } })
+    await page.goto(`/rounds/${demo!.id}?part=questionnaire`)
+    await poll(() => page.getByTestId('missing-sw').innerText(), 20_000).toBe('Kiswahili: every text is translated.')
+    const demoTable = page.getByTestId('translations-sw')
+    expect(await demoTable.getByLabel('Answer: Microfinance lender').inputValue()).toBe('Taasisi ya mikopo midogo')
+    expect(await demoTable.getByTestId('translation-check-0').getByRole('textbox').inputValue()).toMatch(/^Miaka ya shule/)
+    await page.getByTestId('builder-languages').screenshot({ path: path.join(SCREENSHOTS, 'builder-languages-demo.png') })
     await context.close()
   })
 })
