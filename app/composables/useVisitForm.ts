@@ -126,13 +126,14 @@ export function useVisitForm() {
   }
 
   /** Checks the visit with the same schema the server uses; queues it only if it passes. */
-  async function save(): Promise<boolean> {
+  async function save(shownVersion?: QuestionnaireVersionDto | null): Promise<boolean> {
     if (!visit.value || !version.value) return false
     clearTimeout(saveTimer)
     dirty = false
     const savedAt = new Date().toISOString()
     const candidate = { ...payloadOf(visit.value), savedAt }
-    const parsed = visitSchemaFor(version.value).safeParse(candidate)
+    // The version in the language on screen (same codes, so the same verdict): its messages are the ones shown.
+    const parsed = visitSchemaFor(shownVersion ?? version.value).safeParse(candidate)
     errors.value = parsed.success ? {} : fieldErrorsOf(parsed.error)
     if (!parsed.success) {
       // An untouched new visit stays off the tablet even when "Save" is pressed on the empty form.

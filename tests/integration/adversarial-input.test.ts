@@ -67,6 +67,12 @@ const notUtf8 = (json: string, marker: string) => {
 const village = (over: Record<string, unknown>) => () => ({ code: `ADV-${randomUUID().slice(0, 6)}`, name: 'Mto wa Mbu', district: 'Lowland', centreLat: -3.3, centreLon: 35.8, ...over })
 const roundBody = (over: Record<string, unknown>) => () => ({ name: 'Short rains survey', technology: 'storage bags', season: '2026', ...over })
 const questions = (q: Record<string, unknown>) => () => ({ questions: [{ key: 'farm_size', label: 'Farm size', type: 'number', ...q }] })
+// Every text in Kiswahili but what `sw` overrides; the adoption question is added by the server and translated here.
+const withLanguages = (sw: Record<string, unknown>) => () => ({
+  questions: [{ key: 'farm_size', label: 'Farm size', type: 'number' }],
+  languages: [{ code: 'en', name: 'English' }, { code: 'sw', name: 'Kiswahili' }],
+  translations: { sw }
+})
 const visitWith = (over: Record<string, unknown>, answers: Record<string, unknown> = {}) => (c: Context) => ({ visits: [makeVisit(c.round, over, answers)] })
 const syncRaw = (edit: (json: string) => string) => (c: Context) => edit(JSON.stringify({ visits: [makeVisit(c.round)] }))
 const review = (body: Record<string, unknown>) => () => body
@@ -151,6 +157,10 @@ const CASES: Record<string, Case> = {
   'text question 100,000 characters long': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: questions({ type: 'text', maxLength: 100_000 }), status: 400 },
   'number question whose minimum is above its maximum': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: questions({ min: 10, max: 1 }), status: 400 },
   'questionnaire of 201 questions': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: () => ({ questions: Array.from({ length: 201 }, (_, i) => ({ key: `q${i}`, label: 'Q', type: 'yesno' })) }), status: 400 },
+  'translation with NUL': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: withLanguages({ farm_size: { label: `Ukubwa${NUL}` } }), status: 400 },
+  'translation keyed __proto__': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: () => JSON.parse(`{"questions":[{"key":"farm_size","label":"Farm size","type":"number"}],"languages":[{"code":"en","name":"English"},{"code":"sw","name":"Kiswahili"}],"translations":{"sw":{"__proto__":{"label":"x"}}}}`), status: 400 },
+  'translation missing for a declared language': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: withLanguages({}), status: 400 },
+  'language tag holding markup': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: () => ({ questions: [{ key: 'farm_size', label: 'Farm size', type: 'number' }], languages: [{ code: 'en', name: 'English' }, { code: '<b>', name: 'Bold' }] }), status: 400 },
   'questionnaire as an object of questions': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/questionnaire`, body: () => ({ questions: { 0: { key: 'a', label: 'A', type: 'yesno' } } }), status: 400 },
   'round villages given as text': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/villages`, body: () => ({ villageIds: ['1'] }), status: 400 },
   'round villages 2,001 long': { as: 'coordinator', method: 'PUT', path: c => `/api/rounds/${c.draftRoundId}/villages`, body: () => ({ villageIds: Array.from({ length: 2001 }, (_, i) => i + 1) }), status: 400 },

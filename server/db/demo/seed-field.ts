@@ -3,6 +3,7 @@ import demo from '../demo-people.json'
 import { Assignment, Organisation, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../models'
 import { notAskedKeys } from '../../../shared/utils/schemas/visit'
 import { DEMO_TECHNOLOGY, demoChecks, generateDemo } from './field-demo'
+import { withDemoLanguages } from './demo-languages'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
 export const DEMO_ASSIGNED_VILLAGES = [0, 3, 5, 8, 12, 17]
@@ -39,7 +40,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       status: 'open',
       currentVersionId: null
     }, { transaction })
-    const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition: { questions, checks: demoChecks() }, frozenAt: new Date() }, { transaction })
+    const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition: withDemoLanguages({ questions, checks: demoChecks() }), frozenAt: new Date() }, { transaction })
     await round.update({ currentVersionId: version.id }, { transaction })
     await RoundVillage.bulkCreate(villageRows.map(v => ({ roundId: round.id, villageId: v.id })), { transaction })
     await Assignment.bulkCreate(DEMO_ASSIGNED_VILLAGES.map(i => ({ roundId: round.id, villageId: villageRows[i]!.id, userId: enumerator.id })), { transaction })

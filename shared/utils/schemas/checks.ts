@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { checkMessagesSchema } from './languages'
 import { safeText } from './safe-text'
 
 // Checks across answers, written by the coordinator: "this answer must be at most that one (or a number)", with the
@@ -29,7 +30,9 @@ export const answerCheckSchema = z.object({
   question: questionKey,
   test: z.enum(CHECK_TESTS, { error: 'Choose how to compare' }),
   against,
-  message: safeText(z.string().trim().min(3, 'Write the message the enumerator will read').max(200, 'At most 200 characters'))
+  message: safeText(z.string().trim().min(3, 'Write the message the enumerator will read').max(200, 'At most 200 characters')),
+  /** The message in the questionnaire's other languages, by language code. */
+  messages: checkMessagesSchema.optional()
 })
 export type AnswerCheck = z.infer<typeof answerCheckSchema>
 export type AnswerCheckInput = z.input<typeof answerCheckSchema>

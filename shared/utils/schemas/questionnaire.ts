@@ -3,6 +3,8 @@ import { checkDefinitionProblems } from '../answer-checks'
 import { conditionProblems } from '../asking'
 import { answerCheckSchema } from './checks'
 import { conditionSchema } from './conditions'
+import { languagesSchema, translationsSchema } from './languages'
+import { translationProblems } from '../translation'
 import { isReservedKey, safeText } from './safe-text'
 
 // A questionnaire is a list of typed questions; one version of it yields one zod schema for a visit,
@@ -76,7 +78,11 @@ export type QuestionInput = z.input<typeof questionSchema>
 export const questionnaireDefinitionSchema = z.object({
   questions: z.array(questionSchema).min(1).max(200),
   /** Checks across answers with the coordinator's messages (absent in versions saved before checks existed). */
-  checks: z.array(answerCheckSchema).max(50, 'At most 50 checks').optional()
+  checks: z.array(answerCheckSchema).max(50, 'At most 50 checks').optional(),
+  /** The languages it is asked in, the main one first (absent: one language, the questions' own texts). */
+  languages: languagesSchema.optional(),
+  /** Texts of the other languages per question key (shared/utils/translation.ts). */
+  translations: translationsSchema.optional()
 }).superRefine((d, ctx) => {
   const seen = new Set<string>()
   d.questions.forEach((q, i) => {
@@ -90,6 +96,7 @@ export const questionnaireDefinitionSchema = z.object({
   if (outcome?.askWhen) ctx.addIssue({ code: 'custom', path: ['questions', d.questions.indexOf(outcome), 'askWhen'], message: 'The adoption question is asked at every farm: it cannot have a condition' })
   for (const p of conditionProblems(d.questions)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   for (const p of checkDefinitionProblems(d.questions, d.checks)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
+  for (const p of translationProblems(d)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   // Exports add derived columns (key.option, key.asked): two of them with the same name would be ambiguous.
   const columns = new Map<string, string>()
   d.questions.forEach((q, i) => {

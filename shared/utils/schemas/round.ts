@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { answerCheckSchema } from './checks'
+import { languagesSchema, translationsSchema } from './languages'
 import { questionSchema } from './questionnaire'
 import { safeText } from './safe-text'
 
@@ -20,7 +21,13 @@ export const roundPatchSchema = z.object({
 }).refine(b => b.status !== undefined || b.targetVisitsPerVillage !== undefined, 'Send a status or a target')
 export type RoundPatch = z.infer<typeof roundPatchSchema>
 
-export const questionnaireSaveSchema = z.object({ questions: z.array(questionSchema).min(1).max(200), checks: z.array(answerCheckSchema).max(50).default([]) })
+export const questionnaireSaveSchema = z.object({
+  questions: z.array(questionSchema).min(1).max(200),
+  checks: z.array(answerCheckSchema).max(50).default([]),
+  languages: languagesSchema.optional(),
+  translations: translationsSchema.optional()
+})
+export type QuestionnaireSave = z.infer<typeof questionnaireSaveSchema>
 
 export const roundVillagesSchema = z.object({ villageIds: z.array(z.number().int().positive()).max(2000) })
 
