@@ -67,8 +67,6 @@ export function isOpen(userId: number): boolean {
   return openKeyOf(userId) !== null
 }
 
-export { lockVault }
-
 export function checkPinShape(pin: string): string | null {
   if (pin.length < PIN_MIN_LENGTH) return `Use at least ${PIN_MIN_LENGTH} digits or characters.`
   if (/^(\d)\1+$/.test(pin) || '0123456789012345'.includes(pin) || '9876543210987654'.includes(pin)) return 'Choose a PIN that is harder to guess than a repeated or running sequence.'
@@ -93,6 +91,7 @@ export async function setUpVault(userId: number, pin: string): Promise<void> {
     migrated: false
   }
   saveMeta(userId, meta)
+  clearErased(userId)
   setOpenKey(userId, dataKey)
   await sealPlainRecords(userId)
 }
@@ -145,12 +144,39 @@ export async function deviceStateOf(userId: number): Promise<DeviceState | null>
   }
 }
 
+const erasedKey = (userId: number) => `furrowcast:field-withdrawn:${userId}`
+
 /** A revoked tablet: the whole local store and its key go (no PIN needed: the records are deleted, not read). */
 export async function eraseLocalStore(userId: number): Promise<void> {
   lockVault(userId)
   closeFieldDb(userId)
   await Dexie.delete(fieldDbName(userId))
   localStorage.removeItem(metaKey(userId))
+  // Remembered (a date only) so that the owner, at the next sign-in, is told why the tablet is empty.
+  localStorage.setItem(erasedKey(userId), new Date().toISOString())
+}
+
+export function wasErased(userId: number): boolean {
+  return localStorage.getItem(erasedKey(userId)) !== null
+}
+
+export function clearErased(userId: number) {
+  localStorage.removeItem(erasedKey(userId))
+}
+
+/**
+ * Every store on this tablet asks whether its device was revoked, signed in or not: a revocation ends the owner's
+ * sessions, so the app must not wait for a signed-in page to erase. Returns the people whose stores were erased.
+ */
+export async function sweepRevokedStores(): Promise<number[]> {
+  const owners = Object.keys(localStorage).flatMap(k => /^furrowcast:field-vault:(\d+)$/.exec(k)?.[1] ?? []).map(Number)
+  const erased: number[] = []
+  for (const userId of owners) {
+    if ((await deviceStateOf(userId)) !== 'revoked') continue
+    await eraseLocalStore(userId)
+    erased.push(userId)
+  }
+  return erased
 }
 
 /** Seals the records written by the app before encryption (once, on the first unlock after the update). */
