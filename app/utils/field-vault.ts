@@ -107,7 +107,8 @@ export async function unlockVault(userId: number, pin: string, now = Date.now())
   }
   catch {
     const failures = meta.failures + 1
-    const retryAt = Date.now() + delayAfter(failures)
+    const delay = delayAfter(failures)
+    const retryAt = delay ? Date.now() + delay : 0
     saveMeta(userId, { ...meta, failures, retryAt })
     throw new WrongPinError(failures, retryAt)
   }
