@@ -95,6 +95,20 @@ describe('the tablet\'s encrypted store', () => {
     page = await context.newPage()
     await signIn(page)
     await poll(() => page.getByTestId('field-pin-setup').isVisible()).toBe(true)
+    // A visit the app stored in clear before encryption existed, put straight into the store the app opened.
+    await poll(() => page.evaluate(async name => (await indexedDB.databases()).some(d => d.name === name), `furrowcast-field-${org.enumeratorId}`)).toBe(true)
+    await page.evaluate(async ({ name, code, roundId }) => {
+      const db = await new Promise<IDBDatabase>((resolve, reject) => {
+        const open = indexedDB.open(name)
+        open.onsuccess = () => resolve(open.result)
+        open.onerror = () => reject(open.error)
+      })
+      const now = new Date().toISOString()
+      const tx = db.transaction('visits', 'readwrite')
+      tx.objectStore('visits').put({ id: crypto.randomUUID(), roundId, villageId: null, questionnaireVersionId: 1, farmCode: code, location: null, answers: { head_name: 'Older Entry Person' }, consent: true, consentAt: now, startedAt: now, savedAt: now, baseVersion: 1, state: 'synced', reviewState: 'accepted', reviewReason: null, errors: null, serverCopy: null, updatedAt: now, syncedAt: now })
+      await new Promise(resolve => (tx.oncomplete = resolve))
+      db.close()
+    }, { name: `furrowcast-field-${org.enumeratorId}`, code: `${FARM}-OLD`, roundId: round.roundId })
     // A PIN too easy to guess is refused on screen.
     await page.getByLabel('PIN', { exact: true }).fill('111111')
     await page.getByLabel('The same PIN again').fill('111111')
@@ -104,6 +118,12 @@ describe('the tablet\'s encrypted store', () => {
     await openFieldStore(page)
     expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
+    // The clear record was sealed on the first unlock, and still reads in the app.
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM}-OLD` }).count()).toBe(1)
+    const migrated = await rawStore(page)
+    expect(migrated.counts.visits).toBe(1)
+    expect(migrated.text).not.toContain(`${FARM}-OLD`)
+    expect(migrated.text).not.toContain('Older Entry Person')
 
     // Offline from here: the visit and its photo stay on the tablet, waiting.
     await context.setOffline(true)
@@ -133,7 +153,7 @@ describe('the tablet\'s encrypted store', () => {
     await page.getByRole('button', { name: 'Save visit' }).click()
     await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
     await page.getByRole('link', { name: 'Back to field work' }).click()
-    await poll(() => page.getByTestId('local-visit').filter({ hasText: FARM }).count()).toBe(1)
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM} ·` }).count()).toBe(1)
 
     await page.getByTestId('field-lock').click()
     await poll(() => page.getByTestId('field-unlock').isVisible()).toBe(true)
@@ -142,7 +162,7 @@ describe('the tablet\'s encrypted store', () => {
 
     const raw = await rawStore(page)
     // The records are there (the test reads the real store)…
-    expect(raw.counts).toMatchObject({ visits: 1, photos: 1 })
+    expect(raw.counts).toMatchObject({ visits: 2, photos: 1 })
     expect(raw.counts.cache).toBeGreaterThan(0)
     expect(raw.text).toContain('"state":"queued"')
     expect(raw.text.length).toBeGreaterThan(5_000)
@@ -154,7 +174,7 @@ describe('the tablet\'s encrypted store', () => {
     await page.reload()
     await poll(() => page.getByTestId('field-unlock').isVisible()).toBe(true)
     await typePin(page, TEST_PIN)
-    await poll(() => page.getByTestId('local-visit').filter({ hasText: FARM }).count(), 20_000).toBe(1)
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM} ·` }).count(), 20_000).toBe(1)
     expect(await page.evaluate(() => navigator.onLine)).toBe(false)
     await page.screenshot({ path: path.join(SCREENSHOTS, 'field-unlocked-offline.png'), fullPage: true })
   }, 60_000)
@@ -176,7 +196,7 @@ describe('the tablet\'s encrypted store', () => {
     await poll(() => page.getByTestId('pin-wait').textContent()).toMatch(/3 wrong PINs in a row\. Try again in (9|10) s/)
     await poll(() => page.getByTestId('pin-wait').count(), 15_000).toBe(0)
     await typePin(page, TEST_PIN)
-    await poll(() => page.getByTestId('local-visit').filter({ hasText: FARM }).count(), 20_000).toBe(1)
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM} ·` }).count(), 20_000).toBe(1)
   }, 90_000)
 
   it('warns before signing out with an unsynced visit, and keeps it sealed for the next sign-in', async () => {
@@ -192,13 +212,32 @@ describe('the tablet\'s encrypted store', () => {
     await page.getByRole('button', { name: 'Sign out and keep them' }).click()
     await page.waitForURL(url => url.pathname === '/signin')
     const raw = await rawStore(page)
-    expect(raw.counts).toMatchObject({ visits: 1, photos: 1 })
+    expect(raw.counts).toMatchObject({ visits: 2, photos: 1 })
     expect(raw.text).not.toContain(FARM)
     await signIn(page)
     await poll(() => page.getByTestId('field-unlock').isVisible()).toBe(true)
     await typePin(page, TEST_PIN)
-    await poll(() => page.getByTestId('local-visit').filter({ hasText: FARM }).count(), 20_000).toBe(1)
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM} ·` }).count(), 20_000).toBe(1)
   }, 90_000)
+
+  it('replaces a forgotten PIN only online and signed in, through the server\'s spare key', async () => {
+    await page.getByTestId('field-lock').click()
+    await page.getByText('Forgot your PIN?').click()
+    await context.setOffline(true)
+    await page.getByLabel('New PIN (at least 6)').fill('739164')
+    await page.getByLabel('The same PIN again').fill('739164')
+    await page.getByRole('button', { name: 'Choose the new PIN' }).click()
+    await poll(() => page.locator('#pin-replace-again-error').textContent()).toContain('cannot be reached')
+    await context.setOffline(false)
+    await page.getByRole('button', { name: 'Choose the new PIN' }).click()
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM} ·` }).count(), 20_000).toBe(1)
+    // The old PIN no longer opens the store; the new one does.
+    await page.getByTestId('field-lock').click()
+    await typePin(page, TEST_PIN)
+    await poll(() => page.locator('#pin-unlock-error').textContent()).toBe('That PIN is not right.')
+    await typePin(page, '739164')
+    await poll(() => page.getByTestId('local-visit').filter({ hasText: `${FARM} ·` }).count(), 20_000).toBe(1)
+  }, 60_000)
 
   it('erases its copy at the next contact once an admin withdrew it on the people page', async () => {
     const adminContext = await newTabletContext(opened.browser)
