@@ -36,7 +36,9 @@ export default defineNuxtConfig({
     public: {
       // Optional tile server for the adoption map (e.g. https://tiles.example.org/{z}/{x}/{y}.png); without it
       // the map draws the Natural Earth outlines shipped with the app. Set NUXT_PUBLIC_MAP_TILE_URL.
-      mapTileUrl: ''
+      mapTileUrl: '',
+      // Minutes without a touch or key before the tablet's field store locks (NUXT_PUBLIC_FIELD_IDLE_LOCK_MINUTES).
+      fieldIdleLockMinutes: 5
     }
   },
   // The tablet pages render in the browser only, so the service worker can serve one precached shell for them offline.

@@ -1,6 +1,7 @@
 import { liveQuery } from 'dexie'
 import type { FieldSetup } from '#shared/types/field'
 import { type LocalPhoto, type LocalVisit, fieldDb } from '~/utils/field-db'
+import { isOpen } from '~/utils/field-vault'
 
 /** Live views of the tablet's database: the cached setup, every local visit and photo, and the counts. */
 export function useFieldData() {
@@ -12,7 +13,8 @@ export function useFieldData() {
   const subscriptions: Array<{ unsubscribe: () => void }> = []
 
   onMounted(() => {
-    if (!user.value) return
+    // A locked store is not read (the home page then shows no figures; the field pages open it first).
+    if (!user.value || !isOpen(user.value.id)) return
     const db = fieldDb(user.value.id)
     subscriptions.push(liveQuery(() => db.setup()).subscribe((s) => {
       setup.value = s

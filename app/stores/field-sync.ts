@@ -29,9 +29,21 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
   }
 
   async function syncNow(): Promise<void> {
-    if (userId === null || running.value || needsSignIn.value) return
+    if (userId === null || running.value) return
     if (!navigator.onLine) {
       online.value = false
+      return
+    }
+    // Every contact first asks whether an admin revoked this tablet (it then erases its store), locked or not.
+    const vault = useFieldVaultStore()
+    if (await vault.checkDevice()) {
+      stop()
+      return
+    }
+    if (needsSignIn.value) return
+    // A locked store cannot be read: the queue waits for the PIN; the revocation check above still runs each period.
+    if (vault.status !== 'open') {
+      schedule(PERIOD_MS)
       return
     }
     running.value = true
@@ -79,7 +91,8 @@ export const useFieldSyncStore = defineStore('field-sync', () => {
     if (userId === forUser) return
     userId = forUser
     needsSignIn.value = false
-    lastSyncAt.value = ((await fieldDb(forUser).cache.get('lastSyncAt'))?.value as string | undefined) ?? null
+    // Locked, the cached time cannot be read; the first pass after the unlock sets it.
+    lastSyncAt.value = ((await fieldDb(forUser).cache.get('lastSyncAt').catch(() => undefined))?.value as string | undefined) ?? null
     online.value = navigator.onLine
     window.addEventListener('online', () => {
       online.value = true

@@ -1,10 +1,14 @@
 import Dexie, { type EntityTable } from 'dexie'
 import type { FieldSetup } from '#shared/types/field'
 import type { ServerVisit, VisitLocation } from '#shared/utils/schemas/visit'
+import { sealingMiddleware } from './field-sealing'
+import { openKeyOf } from './field-keys'
 
 // The tablet's own database (IndexedDB through Dexie), one per signed-in person: visits, photos as Blobs, and the
 // rounds, questionnaires and villages needed to record with no network. The device holds a visit until the
 // server has confirmed it; a confirmed visit stays here (state 'synced') so the enumerator still sees it.
+// Every record is sealed with the person's data key (field-sealing.ts, field-vault.ts): only the index fields below
+// are stored in clear, so an index must never be a farm code, a name or an answer.
 
 /** draft: being written · queued: waiting to sync · synced: the server has it · sent_back / conflict / rejected: needs the enumerator. */
 export type LocalState = 'draft' | 'queued' | 'synced' | 'sent_back' | 'conflict' | 'rejected'
@@ -55,8 +59,10 @@ export class FieldDatabase extends Dexie {
   photos!: EntityTable<LocalPhoto, 'id'>
   cache!: EntityTable<CacheEntry, 'key'>
 
-  constructor(name: string) {
+  /** `keyOf` gives the open data key (null while locked); without it the records are stored as they are (unit tests). */
+  constructor(name: string, keyOf?: () => CryptoKey | null) {
     super(name)
+    if (keyOf) this.use(sealingMiddleware(keyOf))
     this.version(1).stores({
       visits: 'id, state, roundId, villageId, updatedAt',
       photos: 'id, visitId, state',
@@ -71,14 +77,22 @@ export class FieldDatabase extends Dexie {
 
 const databases = new Map<number, FieldDatabase>()
 
+export const fieldDbName = (userId: number) => `furrowcast-field-${userId}`
+
 /** The field database of one person (a tablet may be shared; each person's queue stays their own). */
 export function fieldDb(userId: number): FieldDatabase {
   let db = databases.get(userId)
   if (!db) {
-    db = new FieldDatabase(`furrowcast-field-${userId}`)
+    db = new FieldDatabase(fieldDbName(userId), () => openKeyOf(userId))
     databases.set(userId, db)
   }
   return db
+}
+
+/** Closes and forgets a person's store (before it is deleted): the next use opens a fresh one. */
+export function closeFieldDb(userId: number) {
+  databases.get(userId)?.close()
+  databases.delete(userId)
 }
 
 export const WAITING_STATES: readonly LocalState[] = ['queued']

@@ -114,6 +114,12 @@ export function detailLines(entry: AuditEntry, questions: Question[] = []): stri
     case 'round.export_identifying':
       if (d.part) lines.push(`Part: ${d.part}${d.precision ? `, positions: ${d.precision === 'none' ? 'left out' : `${d.precision} decimals`}` : ''}`)
       break
+    case 'field_device.set_up':
+      if (d.label) lines.push(`Tablet: ${shown(d.label)}`)
+      break
+    case 'field_device.revoked':
+      lines.push(`Tablet: ${shown(d.label)} of ${shown(d.email)}; ${shown(d.sessionsEnded)} sessions ended`)
+      break
     case 'farm.erase':
       lines.push(`${shown(d.visits)} visits and ${shown(d.photos)} photos; the farm is now ${shown(d.opaqueId)}${d.keptAnswers ? ' (non-identifying answers kept)' : ' (visits deleted)'}`)
       break

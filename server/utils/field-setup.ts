@@ -4,6 +4,7 @@ import { questionnaireDefinitionSchema } from '#shared/utils/schemas/questionnai
 import { Assignment, QuestionnaireVersion, Round, Village, Visit } from '../db/models'
 import { erasedVisitIdsFor } from './erasure'
 import { serverCopyOf } from './field-sync'
+import { purgedVisitIdsFor } from './retention-tablets'
 
 interface Actor { id: number, organisationId: number }
 
@@ -40,10 +41,12 @@ export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
 export async function visitStatesFor(actor: Actor, since?: Date): Promise<VisitStates> {
   const at = new Date()
   const where = { enumeratorId: actor.id, organisationId: actor.organisationId, ...(since ? { updatedAt: { [Op.gte]: since } } : {}) }
-  const [visits, erased] = await Promise.all([
+  const [visits, erasedOnRequest, purged] = await Promise.all([
     Visit.findAll({ where, order: [['updatedAt', 'DESC']], limit: 5000 }),
-    erasedVisitIdsFor(actor, since)
+    erasedVisitIdsFor(actor, since),
+    purgedVisitIdsFor(actor, since)
   ])
+  const erased = [...new Set([...erasedOnRequest, ...purged])]
   // An erased visit is never sent back as a record (even when its non-identifying answers were kept): the tablet
   // is only told to drop its copy.
   const gone = new Set(erased)

@@ -176,8 +176,24 @@ const sentBackMail: PersonalDataSource = {
     count: await update(`UPDATE mail_messages SET subject = 'A visit was sent back', text_body = '(removed: personal data erased)', html_body = NULL
       WHERE organisation_id = ? AND (LOCATE(CONCAT('Visit ', ?, ' in '), subject) > 0 OR LOCATE(CONCAT('farm ', ?, ' in '), text_body) > 0)`,
     [organisationId, farmCode, farmCode], transaction)
-  })
+  }),
+  // Retention: the messages naming any farm of the rounds whose names are due. Listed before visitIdentifiers,
+  // which replaces the farm codes these messages are found by.
+  purgeRounds: async ({ organisationId, roundIds, transaction }) => {
+    const codes = (await select<{ farmCode: string }>('SELECT DISTINCT farm_code AS farmCode FROM visits WHERE organisation_id = ? AND round_id IN (?) AND names_purged_at IS NULL',
+      [organisationId, roundIds], transaction)).map(r => r.farmCode)
+    let count = 0
+    // In slices, so one statement never carries tens of thousands of patterns.
+    for (let i = 0; i < codes.length; i += 200) {
+      const slice = codes.slice(i, i + 200)
+      const tests = slice.map(() => '(LOCATE(CONCAT(\'Visit \', ?, \' in \'), subject) > 0 OR LOCATE(CONCAT(\'farm \', ?, \' in \'), text_body) > 0)').join(' OR ')
+      count += await update(`UPDATE mail_messages SET subject = 'A visit was sent back', text_body = '(removed: retention period ended)', html_body = NULL
+        WHERE organisation_id = ? AND (${tests})`, [organisationId, ...slice.flatMap(c => [c, c])], transaction)
+    }
+    return { count }
+  }
 }
 
 /** Add a new holder of farmers' personal data here (and nowhere else). */
-export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, visitIdentifiers, visitAuditDetails, sentBackMail]
+// Order matters for the purge: sources that find rows by farm code come before visitIdentifiers replaces the codes.
+export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, sentBackMail, visitAuditDetails, visitIdentifiers]

@@ -7,6 +7,7 @@ const PUBLIC_API = new Set([
   'POST /api/auth/password',
   'POST /api/auth/forgot',
   'GET /api/health',
+  'POST /api/field/devices/status',
   'GET /api/_auth/session'
 ])
 

@@ -40,7 +40,10 @@ const ACTIONS: Record<string, string> = {
   'farm.erase': 'Erased a farm\'s personal data',
   'round.export_identifying': 'Exported visits with farm codes and exact positions',
   'retention.purge': 'Purged personal data past its retention period',
-  'privacy.settings': 'Changed the personal data rules'
+  'privacy.settings': 'Changed the personal data rules',
+  'field_device.set_up': 'Set up a tablet with a PIN',
+  'field_device.pin_reset': 'Chose a new PIN for a tablet',
+  'field_device.revoked': 'Withdrew a lost tablet'
 }
 
 /** An action as a sentence start; an action added later without words reads as its own name in plain letters. */
@@ -59,7 +62,8 @@ export const AUDIT_RECORD_TYPES: Record<string, string> = {
   visit: 'Visit',
   model_run: 'Model fit',
   publication: 'Publication',
-  erasure: 'Erasure'
+  erasure: 'Erasure',
+  field_device: 'Tablet'
 }
 
 const plain = (key: string) => key.replace(/[._]/g, ' ')

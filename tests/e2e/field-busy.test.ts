@@ -4,6 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { runningMariadbPid } from '../../scripts/lib/mariadb.mjs'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
 import { DEMO, baseUrl, demoUser } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // What the enumerator sees when the server cannot reach its database: the real test database is frozen (SIGSTOP),
 // so the tablet's sync gets the server's real 503 with Retry-After.
@@ -29,6 +30,7 @@ describe.skipIf(pid === null)('the tablet when the server is busy', () => {
     await page.getByLabel('Password').fill(DEMO.password)
     await page.getByRole('button', { name: 'Sign in' }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await openFieldStore(page)
     const button = page.getByRole('button', { name: 'Sync now' })
     await poll(() => button.isEnabled(), 30_000).toBe(true)
     await poll(() => page.getByTestId('sync-last').textContent(), 30_000).not.toContain('never')

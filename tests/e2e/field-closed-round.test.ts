@@ -7,6 +7,7 @@ import { watchConsole } from '../support/console'
 import { makeRound } from '../support/field'
 import { poll, signInPage, useBrowser } from '../support/pages'
 import { demoUser, freshClient } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // A round the coordinator closes while visits are still on a tablet: the draft and the sent-back visit stay
 // readable with a notice that says why nothing can be changed, and reopening the round gives them back.
@@ -15,6 +16,7 @@ const opened = useBrowser()
 /** A visit in the order of the interview: consent (that makes the draft), then the farm, its position and the answers. */
 async function startVisit(page: Page, roundId: number, villageId: number, farmCode: string) {
   await page.goto(`/field/visit?round=${roundId}&village=${villageId}`)
+  await openFieldStore(page)
   await page.getByRole('checkbox', { name: /informed consent/ }).check()
   await page.waitForURL(/\/field\/visit\?id=/)
   await page.getByLabel('Farm code *').fill(farmCode)
@@ -35,6 +37,7 @@ describe('a round closed under the tablet', () => {
     await page.setViewportSize({ width: 820, height: 1180 })
     const problems = watchConsole(page)
     await signInPage(page, demoUser('enumerator').email, '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
 
     // One visit saved, synced and sent back by the coordinator; one draft kept on the tablet.
@@ -54,6 +57,7 @@ describe('a round closed under the tablet', () => {
     await startVisit(page, round.roundId, round.assignedVillageId, `DRAFT-${tag}`)
     await page.getByRole('link', { name: 'Keep as draft' }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await openFieldStore(page)
     const sentBack = page.getByTestId('local-visit').filter({ hasText: `SENT-${tag}` })
     const draft = page.getByTestId('local-visit').filter({ hasText: `DRAFT-${tag}` })
     await page.getByRole('button', { name: 'Sync now' }).click()
@@ -80,6 +84,7 @@ describe('a round closed under the tablet', () => {
       await page.screenshot({ path: path.join(SCREENSHOTS, `closed-round-${name}.png`) })
       await page.getByRole('link', { name: 'Back', exact: true }).click()
       await page.waitForURL(url => url.pathname === '/field')
+      await openFieldStore(page)
     }
 
     // Reopened: both can be edited and saved again.

@@ -5,6 +5,7 @@ import { Assignment, QuestionnaireVersion, Round, User, Village, Visit } from '.
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
 import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // The demo questionnaire asks "Where does the credit come from?" only when the farm has credit, and "Where did the
 // household hear of the seed?" takes several answers. On a tablet with no network: the question appears and goes as
@@ -58,6 +59,7 @@ async function saveVisit(page: Page) {
   await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
   await page.getByRole('link', { name: 'Back to field work' }).click()
   await page.waitForURL(url => url.pathname === '/field')
+  await openFieldStore(page)
 }
 
 describe('conditions and several answers on a tablet with no network', () => {
@@ -70,11 +72,13 @@ describe('conditions and several answers on a tablet with no network', () => {
     await context.setGeolocation({ latitude: village!.centreLat, longitude: village!.centreLon, accuracy: 6 })
     const page = await context.newPage()
     await signIn(page, 'enumerator', '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
     expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
 
     await context.setOffline(true)
     await page.reload()
+    await openFieldStore(page)
     await poll(() => page.getByRole('heading', { level: 1 }).textContent()).toBe('Field work')
     const tag = Date.now().toString(36).toUpperCase()
     const [withCredit, withoutCredit] = [`COND-${tag}-1`, `COND-${tag}-2`]

@@ -8,6 +8,7 @@ import { closeTestDatabase, testDatabase } from '../support/database'
 import { makeRound, makeVisit } from '../support/field'
 import { type TestOrganisation, makeOrganisation } from '../support/organisation'
 import { DEMO } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // The tablet's copy of an erased farm: on the next sync the visit and its waiting photo leave the tablet's own
 // database, and the farm code leaves the screen. Read on the composed page and in the raw IndexedDB store.
@@ -57,6 +58,7 @@ describe('erasure on the tablet', () => {
     await page.getByLabel('Password').fill(DEMO.password)
     await page.getByRole('button', { name: 'Sign in' }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('sync-last').textContent()).not.toContain('never')
 
     // The tablet holds both visits as synced, and a photo of the farm still waiting to go up.
@@ -75,6 +77,7 @@ describe('erasure on the tablet', () => {
       }
     }), { name: `furrowcast-field-${me.id}`, visits: [visit, kept], photoId: randomUUID() })
     await page.reload()
+    await openFieldStore(page)
     await waitForApp(page)
     const list = page.getByTestId('local-visit')
     await poll(() => list.filter({ hasText: farm }).count()).toBe(1)

@@ -6,6 +6,7 @@ import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp 
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { ensurePublished } from '../support/models'
 import { DEMO, demoUser, freshClient } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // The tablet form in the order of an interview, as the enumerator sees it on a tablet held upright.
 let browser: Browser
@@ -39,6 +40,7 @@ async function openTablet() {
   await page.getByLabel('Password').fill(DEMO.password)
   await page.getByRole('button', { name: 'Sign in' }).click()
   await page.waitForURL(url => url.pathname === '/field')
+  await openFieldStore(page)
   await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
   return { context, page, errors }
 }
@@ -60,6 +62,7 @@ describe('the tablet form in the order of a real interview', () => {
     expect(await page.getByRole('button', { name: 'Discard this draft' }).count()).toBe(0)
     await page.getByRole('link', { name: 'Back', exact: true }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await openFieldStore(page)
     await poll(() => localVisits(page)).toBe(before)
 
     await page.getByRole('link', { name: 'New visit' }).first().click()
@@ -72,6 +75,7 @@ describe('the tablet form in the order of a real interview', () => {
     await page.getByRole('button', { name: 'Discard this draft' }).click()
     await page.getByRole('button', { name: 'Yes, discard the draft' }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('local-visit').filter({ hasText: 'DISCARD-ME' }).count()).toBe(0)
     expect(errors).toEqual([])
     await context.close()

@@ -7,6 +7,7 @@ import { watchConsole } from '../support/console'
 import { makeRound } from '../support/field'
 import { poll, signInPage, useBrowser } from '../support/pages'
 import { demoUser, freshClient } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // With no GPS fix, the enumerator picks the farm's position on a map of the village: the map's code loads only
 // when asked for, and the village is drawn from the round's own data (no tiles), so it works offline too.
@@ -40,8 +41,10 @@ describe('picking the farm\'s position on a map', () => {
     await page.setViewportSize({ width: 820, height: 1180 })
     const problems = watchConsole(page)
     await signInPage(page, demoUser('enumerator').email, '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
     await page.goto(`/field/visit?round=${round.roundId}`)
+    await openFieldStore(page)
     await page.getByRole('checkbox', { name: /informed consent/ }).check()
     await page.waitForURL(/\/field\/visit\?id=/)
     const code = `PICKED-${Date.now().toString(36).toUpperCase()}`
@@ -107,9 +110,11 @@ describe('picking the farm\'s position on a map', () => {
     const page = await context.newPage()
     await page.setViewportSize({ width: 820, height: 1180 })
     await signInPage(page, demoUser('enumerator').email, '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
     expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
     await page.goto(`/field/visit?round=${round.roundId}&village=${round.assignedVillageId}`)
+    await openFieldStore(page)
     expect(await page.evaluate(() => navigator.serviceWorker.controller !== null)).toBe(true)
     await page.getByRole('checkbox', { name: /informed consent/ }).check()
     await page.waitForURL(/\/field\/visit\?id=/)

@@ -6,6 +6,7 @@ import { SCREENSHOTS, newTabletContext, waitForApp } from '../support/browser'
 import { objectSize } from '../support/object-store'
 import { poll, useBrowser } from '../support/pages'
 import { DEMO, demoUser, freshClient } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 const opened = useBrowser()
 
@@ -23,6 +24,7 @@ async function signInOnTablet(page: Page) {
     await page.screenshot({ path: path.join(SCREENSHOTS, 'field-signin-failed.png'), fullPage: true })
     throw error
   })
+  await openFieldStore(page)
   await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
 }
 
@@ -31,6 +33,7 @@ async function backAfterSaved(page: Page) {
   await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
   await page.getByRole('link', { name: 'Back to field work' }).click()
   await page.waitForURL(url => url.pathname === '/field')
+  await openFieldStore(page)
 }
 
 async function recordVisit(page: Page, farmCode: string, photo?: Buffer) {
@@ -81,6 +84,7 @@ describe('field capture on a tablet with no network', () => {
     // Offline: the reload is answered by the service worker, and the cached round is there.
     await context.setOffline(true)
     await page.reload()
+    await openFieldStore(page)
     await poll(() => page.getByRole('heading', { level: 1 }).textContent()).toBe('Field work')
     expect(await page.evaluate(() => navigator.serviceWorker.controller !== null)).toBe(true)
     await poll(() => page.getByTestId('field-village').count()).toBeGreaterThan(0)
@@ -93,6 +97,7 @@ describe('field capture on a tablet with no network', () => {
     // Nothing was entered, so nothing was kept: the way out says "Back", not "Keep as draft".
     await page.getByRole('link', { name: 'Back', exact: true }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await openFieldStore(page)
 
     const tag = Date.now().toString(36).toUpperCase()
     const codes = [1, 2, 3].map(i => `E2E-${tag}-${i}`)
@@ -106,6 +111,7 @@ describe('field capture on a tablet with no network', () => {
     await page.close()
     page = await context.newPage()
     await page.goto('/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('count-waiting-to-sync').textContent()).toBe('3')
     expect(await Visit.count({ where: { farmCode: codes } })).toBe(0)
 

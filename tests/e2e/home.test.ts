@@ -5,6 +5,7 @@ import { Publication, Round, User, Visit } from '../../server/db/models'
 import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { ensurePublished } from '../support/models'
+import { openFieldStore } from '../support/field-pin'
 import { DEMO, demoUser, freshClient } from '../support/server'
 
 // Each role's home page shows figures read from the database (or, for the enumerator, from the tablet's store).
@@ -95,6 +96,14 @@ describe('home pages with real figures', () => {
   it('shows the enumerator what waits on this tablet, read from the tablet\'s own store', async () => {
     const { context, page, errors } = await homeOf('enumerator', { width: 820, height: 1180 })
     const user = await User.findOne({ where: { email: demoUser('enumerator').email } })
+    // The figures come from the tablet's encrypted store: opened in field work, then home by the app's own link.
+    const homeThroughField = async () => {
+      await page.goto('/field')
+      await openFieldStore(page)
+      await page.getByRole('link', { name: 'Furrowcast' }).click()
+      await page.waitForURL(url => url.pathname === '/')
+    }
+    await homeThroughField()
     await expect.poll(() => text(page, 'home-field'), { timeout: 20_000 }).toContain('Waiting to sync\n0')
     // Let the tablet's first sync pass finish (it records today's date) before the store is changed by hand.
     await expect.poll(() => text(page, 'home-last-sync'), { timeout: 20_000 }).toMatch(/\d{4}, \d{2}:\d{2}/)
@@ -117,7 +126,11 @@ describe('home pages with real figures', () => {
     // The server would refuse these hand-made visits; answering "try later" keeps them waiting on the tablet,
     // as a dead connection would. The browser logs that answer, which is expected here and nothing else is.
     await page.route('**/api/sync/visits', route => route.request().method() === 'POST' ? route.fulfill({ status: 503, headers: { 'retry-after': '60' }, body: '{}' }) : route.continue())
+    // Reloaded, the store is locked again: home says so and shows no figures.
     await page.reload()
+    await expect.poll(() => text(page, 'home-field-locked')).toContain('locked')
+    expect(await text(page, 'home-field')).toContain('Waiting to sync\n…')
+    await homeThroughField()
     await expect.poll(() => text(page, 'home-field'), { timeout: 20_000 }).toContain('Waiting to sync\n1')
     expect(await text(page, 'home-field')).toContain('Sent back to fix\n1')
     expect(await text(page, 'home-last-sync')).toMatch(/4 Mar 2026/)

@@ -10,6 +10,7 @@ import { predictFarm } from '../../shared/utils/modelling/farm-prediction'
 import { closeTestDatabase, testDatabase } from '../support/database'
 import { legendColours, tableColours, villagePixels, type PlacedVillage } from '../support/map-screen'
 import { DEMO, baseUrl, demoUser } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 let browser: Browser
 
@@ -321,6 +322,7 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
     const page = await context.newPage()
     await signIn(page, 'enumerator', '/field')
+    await openFieldStore(page)
     expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
     await expect.poll(() => page.getByTestId('field-village').count(), { timeout: 20_000 }).toBeGreaterThan(0)
     // Opening a visit online puts the published model on the tablet; consent makes it a draft with an address.
@@ -329,6 +331,7 @@ describe('the coordinator fits, reads and publishes a model; the funder sees the
     await page.waitForURL(/\/field\/visit\?id=/)
     await context.setOffline(true)
     await page.reload()
+    await openFieldStore(page)
     await expect.poll(() => page.getByTestId('offline-banner').count(), { timeout: 15_000 }).toBe(1)
     const answers: Record<string, number | boolean> = { farm_size_ha: 2.4, household_size: 6, schooling_years: 7, age_head: 41, dealer_distance_km: 8.5, livestock_tlu: 1.2, adopted: false, female_head: true, extension_contact: false, credit_access: false, group_member: true, owns_phone: true }
     await page.getByLabel('Farm code *').fill(`AID-${Date.now().toString(36)}`)

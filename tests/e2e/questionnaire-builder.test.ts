@@ -6,6 +6,7 @@ import { watchConsole } from '../support/console'
 import { makeRound } from '../support/field'
 import { poll, signInPage, useBrowser } from '../support/pages'
 import { demoUser, freshClient } from '../support/server'
+import { openFieldStore } from '../support/field-pin'
 
 // The coordinator adds a question to an open round's questionnaire: answers as rows, codes made from their words
 // and editable, saved as a new version, then seen in the builder and on the tablet.
@@ -69,8 +70,10 @@ describe('the questionnaire builder', () => {
     const field = await tablet.newPage()
     await field.setViewportSize({ width: 820, height: 1180 })
     await signInPage(field, demoUser('enumerator').email, '/field')
+    await openFieldStore(field)
     await poll(() => field.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
     await field.goto(`/field/visit?round=${round.roundId}&village=${round.assignedVillageId}`)
+    await openFieldStore(field)
     // A list question is a drop-down under its label, its answers in the builder's order.
     const question = field.getByLabel('Main source of seed this season')
     await poll(() => question.locator('option').allInnerTexts(), 15_000).toEqual(expect.arrayContaining(['Own saved seed', 'Agro-dealer shop', 'Neighbour or relative']))
