@@ -3,6 +3,7 @@ import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
 import { Assignment, QuestionnaireVersion, Round, User, Village, Visit } from '../../server/db/models'
 import { SCREENSHOTS, newTabletContext } from '../support/browser'
+import { openFieldStore } from '../support/field-pin'
 import { poll, signInPage, useBrowser } from '../support/pages'
 import { demoUser, freshClient } from '../support/server'
 
@@ -30,11 +31,13 @@ describe('a questionnaire in two languages', () => {
     await context.setGeolocation({ latitude: village!.centreLat, longitude: village!.centreLon, accuracy: 6 })
     const page = await context.newPage()
     await signInPage(page, demoUser('enumerator').email, '/field')
+    await openFieldStore(page)
     await poll(() => page.getByTestId('field-village').count(), 20_000).toBeGreaterThan(0)
     expect(await page.evaluate(async () => Boolean((await navigator.serviceWorker.ready).active))).toBe(true)
 
     await context.setOffline(true)
     await page.reload()
+    await openFieldStore(page)
     await poll(() => page.getByRole('heading', { level: 1 }).textContent()).toBe('Field work')
     const farm = `LANG-${Date.now().toString(36).toUpperCase()}`
     await page.getByRole('link', { name: 'New visit' }).first().click()
@@ -87,6 +90,7 @@ describe('a questionnaire in two languages', () => {
 
     // The device remembers the language: after a reload, a new visit opens in Kiswahili.
     await page.reload()
+    await openFieldStore(page)
     await poll(() => page.getByRole('heading', { level: 1 }).textContent()).toBe('Field work')
     await page.getByRole('link', { name: 'New visit' }).first().click()
     await page.waitForURL(/\/field\/visit\?round=/)
