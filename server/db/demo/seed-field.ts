@@ -3,6 +3,7 @@ import demo from '../demo-people.json'
 import { Assignment, Organisation, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../models'
 import { notAskedKeys } from '../../../shared/utils/schemas/visit'
 import { DEMO_TECHNOLOGY, demoChecks, generateDemo } from './field-demo'
+import { registerDemoFarms, seedEarlierDemoRound } from './second-round'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
 export const DEMO_ASSIGNED_VILLAGES = [0, 3, 5, 8, 12, 17]
@@ -31,6 +32,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
     // steps by the node count), so the ids bulkCreate infers from the first one would be wrong there.
     const byCode = new Map((await Village.findAll({ where: { organisationId: organisation.id, code: villages.map(v => v.code) }, transaction })).map(v => [v.code, v]))
     const villageRows = villages.map(v => byCode.get(v.code)!)
+    await seedEarlierDemoRound({ organisationId: organisation.id, enumeratorId: enumerator.id, villageRows, villages, later: visits, transaction })
     const round = await Round.create({
       organisationId: organisation.id,
       name: 'Sorghum seed adoption, 2026 short rains',
@@ -68,6 +70,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       version: 2
     }))
     for (let i = 0; i < rows.length; i += 500) await Visit.bulkCreate(rows.slice(i, i + 500), { transaction })
+    await registerDemoFarms(sequelize, organisation.id, transaction)
   })
   return true
 }
