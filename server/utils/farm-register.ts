@@ -31,7 +31,7 @@ export async function linkVisitsToFarms(scope: LinkScope, transaction?: Transact
     SELECT organisation_id, farm_code, village_id, NOW(3), NOW(3) FROM visits
     WHERE organisation_id = :org AND round_id IN (:rounds) AND farm_code IN (:codes)
     ORDER BY saved_at, id
-    ON DUPLICATE KEY UPDATE id = id`, { replacements, type: QueryTypes.INSERT, transaction })
+    ON DUPLICATE KEY UPDATE farms.id = farms.id`, { replacements, type: QueryTypes.INSERT, transaction })
   await database().query(`UPDATE visits v JOIN farms f ON f.organisation_id = v.organisation_id AND f.code = v.farm_code
     SET v.farm_id = f.id, v.flags = JSON_REMOVE(v.flags, '$.farmInOtherVillage')
     WHERE v.organisation_id = :org AND v.round_id IN (:rounds) AND v.farm_code IN (:codes) AND f.village_id = v.village_id

@@ -13,6 +13,13 @@ const STALE_AFTER_MS = 10 * 60_000
 function specOrBadRequest(request: ModelRequest, context: RoundContext, family?: RoundFamily): ModelSpec {
   try {
     // Several rounds: only the questions every round has can enter the model (round-family.ts).
+    request.covariates.forEach((c, i) => {
+      const key = c.key.split('.')[0]!
+      const question = context.questions.find(q => q.key === key)
+      if (family && question && !family.questions.some(q => q.key === key)) {
+        throw new ModelRequestError(`covariates.${i}`, `${question.label} is not asked in every chosen round: leave it out or choose other rounds`)
+      }
+    })
     const spec = specFromRequest(request, family?.questions ?? context.questions, OUTCOME_KEY)
     return request.several ? severalRoundsSpec(spec, request.several) : spec
   }

@@ -86,10 +86,15 @@ interface SeedInput {
   villageRows: Village[]
   villages: Array<{ centreLat: number, centreLon: number, effect: number }>
   later: DemoVisit[]
+  /** The main round: this one is dated a season before it. */
+  before: Round
   transaction: Transaction
 }
 
-/** Seeds the earlier round (closed, all visits accepted), created before the main round so it is round 1. */
+/**
+ * Seeds the earlier round (closed, all visits accepted). Its id comes after the main round's (the demo round stays
+ * the organisation's first), but it is dated a season earlier, and several rounds are ordered by that date.
+ */
 export async function seedEarlierDemoRound(input: SeedInput): Promise<number> {
   const { organisationId, enumeratorId, villageRows, transaction } = input
   const questions = demoQuestions()
@@ -104,6 +109,7 @@ export async function seedEarlierDemoRound(input: SeedInput): Promise<number> {
   }, { transaction })
   const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition: { questions, checks: demoChecks() }, frozenAt: new Date() }, { transaction })
   await round.update({ currentVersionId: version.id }, { transaction })
+  await Round.sequelize!.query('UPDATE rounds SET created_at = ? WHERE id = ?', { replacements: [new Date(input.before.createdAt.getTime() - 182 * 86_400_000), round.id], type: QueryTypes.UPDATE, transaction })
   await RoundVillage.bulkCreate(villageRows.map(v => ({ roundId: round.id, villageId: v.id })), { transaction })
   const rows = earlierVisits(input.later, input.villages).map((v) => {
     const notAsked = notAskedKeys(questions, v.answers)
@@ -140,7 +146,7 @@ export async function seedEarlierDemoRound(input: SeedInput): Promise<number> {
 export async function registerDemoFarms(sequelize: Sequelize, organisationId: number, transaction: Transaction): Promise<void> {
   await sequelize.query(`INSERT INTO farms (organisation_id, code, village_id, created_at, updated_at)
     SELECT organisation_id, farm_code, village_id, NOW(3), NOW(3) FROM visits WHERE organisation_id = ? ORDER BY saved_at, id
-    ON DUPLICATE KEY UPDATE id = id`, { replacements: [organisationId], type: QueryTypes.INSERT, transaction })
+    ON DUPLICATE KEY UPDATE farms.id = farms.id`, { replacements: [organisationId], type: QueryTypes.INSERT, transaction })
   await sequelize.query(`UPDATE visits v JOIN farms f ON f.organisation_id = v.organisation_id AND f.code = v.farm_code
     SET v.farm_id = f.id WHERE v.organisation_id = ? AND f.village_id = v.village_id`, { replacements: [organisationId], type: QueryTypes.UPDATE, transaction })
 }

@@ -32,7 +32,6 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
     // steps by the node count), so the ids bulkCreate infers from the first one would be wrong there.
     const byCode = new Map((await Village.findAll({ where: { organisationId: organisation.id, code: villages.map(v => v.code) }, transaction })).map(v => [v.code, v]))
     const villageRows = villages.map(v => byCode.get(v.code)!)
-    await seedEarlierDemoRound({ organisationId: organisation.id, enumeratorId: enumerator.id, villageRows, villages, later: visits, transaction })
     const round = await Round.create({
       organisationId: organisation.id,
       name: 'Sorghum seed adoption, 2026 short rains',
@@ -70,6 +69,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       version: 2
     }))
     for (let i = 0; i < rows.length; i += 500) await Visit.bulkCreate(rows.slice(i, i + 500), { transaction })
+    await seedEarlierDemoRound({ organisationId: organisation.id, enumeratorId: enumerator.id, villageRows, villages, later: visits, before: round, transaction })
     await registerDemoFarms(sequelize, organisation.id, transaction)
   })
   return true
