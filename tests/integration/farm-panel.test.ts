@@ -29,7 +29,10 @@ const sql = <T extends object>(query: string, replacements: unknown[]) => testDa
 const farmIdOf = async (visitId: string) => (await sql<{ farmId: number | null }>('SELECT farm_id AS farmId FROM visits WHERE id = ?', [visitId]))[0]!.farmId
 
 async function fitAndWait(body: unknown): Promise<ModelRunDetail> {
-  const started = await coordinator.post<ModelRunSummary>('/api/models', body)
+  // A pause (the statsmodels run) can leave a kept-alive socket that the server has just closed: one retry, since
+  // a request on a socket closed before it arrived was never received.
+  const post = () => coordinator.post<ModelRunSummary>('/api/models', body)
+  const started = await post().catch(post)
   expect(started.status, JSON.stringify(started.body)).toBe(202)
   for (let i = 0; i < 400; i++) {
     const run = await coordinator.get<ModelRunDetail>(`/api/models/${started.body.id}`)
