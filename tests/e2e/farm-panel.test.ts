@@ -58,6 +58,27 @@ describe('several rounds together', () => {
     await context.close()
   })
 
+  it('offers the farms across rounds on the round page, pseudonymised, as a download that answers a zip', async () => {
+    const { main, earlier } = await demoRounds()
+    const context = await newTabletContext(holder.browser)
+    const page = await context.newPage()
+    await signInPage(page, demoUser('coordinator').email, `/rounds/${main.id}`)
+    const part = page.getByTestId('panel-export')
+    await poll(() => part.textContent()).toContain('The same farms across rounds')
+    expect(await part.getByRole('link', { name: /Download the farms across rounds/ }).count()).toBe(0)
+    await part.getByLabel(earlier.name).check()
+    const link = part.getByRole('link', { name: 'Download the farms across rounds (zip)' })
+    await poll(() => link.count()).toBe(1)
+    const href = (await link.getAttribute('href'))!
+    expect(href).toContain(`with=${earlier.id}`)
+    const answer = await page.request.get(href)
+    expect(answer.status()).toBe(200)
+    expect(answer.headers()['content-type']).toBe('application/zip')
+    await part.scrollIntoViewIfNeeded()
+    await part.screenshot({ path: path.join(SCREENSHOTS, 'round-panel-export.png') })
+    await context.close()
+  })
+
   it('shows a farm\'s earlier round in review', async () => {
     const { main, earlier } = await demoRounds()
     const farmCode = (await Visit.findOne({ where: { roundId: earlier.id }, order: [['farmCode', 'ASC']] }))!.farmCode
