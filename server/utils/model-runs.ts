@@ -141,9 +141,11 @@ export function runSummary(run: ModelRun) {
     status: run.status,
     link: run.spec.link ?? 'probit',
     // The village models have no `se` choice: name the treatment instead of a misleading 'conventional'.
-    se: run.spec.villageTreatment === 'survey' || run.spec.villageTreatment === 'random-intercept' ? run.spec.villageTreatment : run.spec.se ?? 'conventional',
+    // Following each farm over several rounds, the random intercept is the farm's, not the village's.
+    se: run.request.several?.model === 'farm-effects' ? 'farm-effects' : run.spec.villageTreatment === 'survey' || run.spec.villageTreatment === 'random-intercept' ? run.spec.villageTreatment : run.spec.se ?? 'conventional',
     equation: equationText(run.spec),
     covariates: run.spec.covariates.map(c => c.label ?? c.name),
+    ...(run.request.several ? { rounds: { count: run.request.several.roundIds.length + 1, followsFarms: run.request.several.model === 'farm-effects' } } : {}),
     rowCount: run.rowCount,
     used: run.results?.rows.used ?? null,
     loglik: run.results?.fit.loglik ?? null,
