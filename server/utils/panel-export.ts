@@ -58,9 +58,11 @@ export async function panelCsv(family: RoundFamily, organisationId: number, mode
     const round = roundOf.get(Number(v.roundId))!
     const answers = json<Record<string, unknown>>(v.answers)
     const notAsked = new Set(json<string[] | null>(v.notAsked ?? null) ?? [])
-    // The register's code, so every round of a farm carries the same value. A purged visit already holds the
-    // farm's pseudonym (or an erased farm's id), which the register has too once every visit is purged.
-    const farm = mode.identifying || /^[PE]-[0-9a-f]{12}$/.test(v.farmCode) ? v.farmCode : pseudonymOf(organisationId, v.farmCode)
+    // The register's code, so every round of a farm carries the same value. A purged visit holds the farm's
+    // pseudonym (or an erased farm's id), which the register has too once every visit is purged; while the register
+    // still holds the code, a purged visit's row gets the pseudonym even in the identifying export (the purge stands).
+    const replaced = /^[PE]-[0-9a-f]{12}$/.test(v.farmCode)
+    const farm = replaced || (mode.identifying && !v.purged) ? v.farmCode : pseudonymOf(organisationId, v.farmCode)
     farms.add(farm)
     const position = withPositions
       ? (mode.identifying ? [v.lat, v.lon] : [rounded(v.lat, mode.precision), rounded(v.lon, mode.precision)])

@@ -192,6 +192,24 @@ describe('the panel export', () => {
     expect(strFromU8(files['panel.csv']!)).not.toContain('HYPERLINK')
   })
 
+  it('keeps a purged visit pseudonymised even in the identifying panel while its farm has later visits', async () => {
+    const code = `PP-${Date.now().toString(36)}`
+    const a = makeVisit(first, { farmCode: code })
+    const b = makeVisit(second, { farmCode: code })
+    await sync([a, b])
+    for (const v of [a, b]) expect((await coordinator.post(`/api/review/visits/${v.id}`, { action: 'accept' })).status).toBe(200)
+    // As the retention purge leaves the first round's visit: names purged (its own code is then the pseudonym).
+    await testDatabase().query('UPDATE visits SET names_purged_at = NOW(3) WHERE id = ?', { replacements: [a.id] })
+    const answer = await coordinator.get<string>(`/api/rounds/${first.roundId}/panel?with=${second.roundId}&part=panel&identifying=1&reason=${encodeURIComponent('Revisit the farms next season')}`)
+    expect(answer.status).toBe(200)
+    const rows = rectangular(answer.body)
+    const savedAt = rows[0]!.indexOf('saved_at')
+    expect(rows.filter(r => r[0] === code).map(r => r[1])).toEqual(['2'])
+    const purged = rows.filter(r => r[savedAt] === new Date(a.savedAt).toISOString() && r[1] === '1')
+    expect(purged).toHaveLength(1)
+    expect(purged[0]![0]).toMatch(/^P-[0-9a-f]{12}$/)
+  })
+
   it('refuses rounds of another organisation and a single round', async () => {
     expect((await coordinator.get(`/api/rounds/${first.roundId}/panel?with=${first.roundId}`)).status).toBe(400)
     expect((await coordinator.get(`/api/rounds/${first.roundId}/panel?with=999999`)).status).toBe(404)

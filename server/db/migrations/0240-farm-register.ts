@@ -23,7 +23,8 @@ export async function up({ context: qi }: { context: QueryInterface }) {
     SELECT organisation_id, farm_code, village_id, NOW(3), NOW(3) FROM (
       SELECT organisation_id, farm_code, village_id,
         ROW_NUMBER() OVER (PARTITION BY organisation_id, farm_code ORDER BY saved_at, id) AS n FROM visits) first_visits
-    WHERE n = 1`)
+    WHERE n = 1
+    ON DUPLICATE KEY UPDATE farms.id = farms.id`)
   await qi.sequelize.query(`UPDATE visits v JOIN farms f ON f.organisation_id = v.organisation_id AND f.code = v.farm_code
     SET v.farm_id = f.id WHERE f.village_id = v.village_id`)
   await qi.sequelize.query(`UPDATE visits v JOIN farms f ON f.organisation_id = v.organisation_id AND f.code = v.farm_code
