@@ -14,6 +14,9 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
   // Checks run with the fit: the link test, and the characteristics for the test of an uneven spread.
   const linkTest = ref(false)
   const hetero = ref<string[]>([])
+  // Several rounds together: the other rounds chosen and how the rounds enter the model (none: this round alone).
+  const otherRounds = ref<number[]>([])
+  const roundsModel = ref<'pooled' | 'farm-effects'>('pooled')
 
   function toggle(key: string, on: boolean) {
     covariates.value = on
@@ -38,6 +41,7 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
     covariates.value = []
     interactions.value = []
     hetero.value = []
+    otherRounds.value = []
   }
 
   const request = computed<ModelRequestInput | null>(() => roundId.value === null
@@ -45,8 +49,9 @@ export const useModelBuilderStore = defineStore('model-builder', () => {
     : {
         roundId: roundId.value, covariates: covariates.value, interactions: interactions.value, link: link.value, se: se.value, margins: margins.value,
         villages: villages.value, ...(villages.value === 'survey' && weights.value ? { weights: weights.value } : {}),
-        checks: { linkTest: linkTest.value, hetero: link.value === 'probit' ? hetero.value : [] }
+        checks: { linkTest: linkTest.value, hetero: link.value === 'probit' ? hetero.value : [] },
+        ...(otherRounds.value.length ? { villages: 'cluster' as const, weights: undefined, several: { roundIds: otherRounds.value, model: roundsModel.value } } : {})
       })
 
-  return { roundId, covariates, interactions, link, se, margins, villages, weights, linkTest, hetero, toggle, choice, update, reset, request }
+  return { roundId, covariates, interactions, link, se, margins, villages, weights, linkTest, hetero, otherRounds, roundsModel, toggle, choice, update, reset, request }
 })

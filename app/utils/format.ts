@@ -23,7 +23,7 @@ export function stars(p: number | null | undefined): string {
 
 /** How the standard errors of a run were computed, in words. */
 export function seLabelOf(type: string | undefined): string {
-  return ({ 'cluster': 'clustered by village', 'conventional': 'conventional', 'hc0': 'robust (HC0)', 'hc1': 'robust (HC1)', 'survey': 'from the sampling plan', 'random-intercept': 'with a level per village' } as Record<string, string>)[type ?? ''] ?? ''
+  return ({ 'cluster': 'clustered by village', 'conventional': 'conventional', 'hc0': 'robust (HC0)', 'hc1': 'robust (HC1)', 'survey': 'from the sampling plan', 'random-intercept': 'with a level per village', 'farm-effects': 'with a level per farm' } as Record<string, string>)[type ?? ''] ?? ''
 }
 
 /** A day as "2 Dec 2026", in UTC and one fixed locale so the server's render and the browser's agree. */

@@ -4,7 +4,8 @@ const NAMES: Record<string, string> = {
   duplicateFarmCode: 'Farm code twice',
   farFromVillageKm: 'Far from village',
   edgeValues: 'Edge value',
-  tooFastSeconds: 'Very fast'
+  tooFastSeconds: 'Very fast',
+  farmInOtherVillage: 'Farm of another village'
 }
 
 /** The short name of a quality flag for the table; an unknown flag reads as a plain "Other check". */
@@ -20,6 +21,7 @@ export function flagSentence(key: string, value: unknown, questions: Question[] 
     case 'farFromVillageKm': return `GPS point ${value} km from the village centre`
     case 'edgeValues': return `At the edge of the range: ${(Array.isArray(value) ? value : [value]).map(v => label(String(v))).join(', ')}`
     case 'tooFastSeconds': return `Saved ${value} s after it started`
+    case 'farmInOtherVillage': return `This farm code is registered in ${value}: not linked to that farm's earlier rounds. Correct the farm code if it was mistyped`
     default: return flagName(key)
   }
 }

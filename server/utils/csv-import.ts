@@ -13,6 +13,7 @@ import { type CheckedRow, CsvFileError, type ParsedCsv, checkRows, mappingErrors
 import { ImportBatch, QuestionnaireVersion, RoundVillage, User, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'
 import type { SignedInUser } from './access'
+import { linkVisitsToFarms } from './farm-register'
 import { edgeValues } from './visit-flags'
 
 const TOO_LARGE = `The file is larger than the ${IMPORT_MAX_BYTES / 1024 / 1024} MB limit for an import. Split it into smaller files and import them one by one.`
@@ -195,6 +196,13 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
       toReview = visits.filter(v => v.reviewState === 'received').length
       for (let i = 0; i < visits.length; i += 1000) await Visit.bulkCreate(visits.slice(i, i + 1000), { transaction })
       await bumpDataVersion(roundId, transaction)
+      // A farm code registered in another village waits in review too (farm-register.ts says why).
+      const unlinked = new Set(await linkVisitsToFarms({ organisationId: user.organisationId, roundIds: [roundId], farmCodes: visits.map(v => v.farmCode) }, transaction))
+      const otherVillage = visits.filter(v => v.reviewState === 'accepted' && unlinked.has(v.id)).map(v => v.id)
+      if (otherVillage.length) {
+        await database().query('UPDATE visits SET review_state = \'received\' WHERE id IN (?)', { replacements: [otherVillage], transaction, type: QueryTypes.UPDATE })
+        toReview += otherVillage.length
+      }
       const clashing = earlier.filter(v => inFile.has(v.farmCode.toLowerCase())).map(v => v.id)
       if (clashing.length) {
         await database().query('UPDATE visits SET flags = JSON_SET(flags, \'$.duplicateFarmCode\', true) WHERE id IN (?)', { replacements: [clashing], transaction, type: QueryTypes.UPDATE })
@@ -213,7 +221,7 @@ export async function importRows(event: H3Event, user: SignedInUser, roundId: nu
     throw error
   }
   const review = toReview
-    ? ` ${toReview} of them use a farm code seen twice (in the file or already in the round) and wait in review, flagged.`
+    ? ` ${toReview} of them use a farm code seen twice (in the file or already in the round) or registered in another village, and wait in review, flagged.`
     : ''
   const message = (rejectedCount
     ? `Imported ${valid.length} of ${rows.length} rows; ${rejectedCount} rejected (download them with the reasons).`

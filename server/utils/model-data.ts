@@ -9,6 +9,8 @@ import { database } from '../db/connection'
 import { QuestionnaireVersion, Round } from '../db/models'
 import type { ExcludedVisits } from '../db/models/model-run'
 import { type ScannedValue, scanAnswers } from './answer-scan'
+import { FARM_COLUMN, ROUND_COLUMN, type PanelRead } from './panel-data'
+import { LATEST_OF_FARM_IN_ROUND } from './panel-export'
 
 /** A round of this organisation with its current questions and village names: no visits read. */
 export interface RoundContext {
@@ -138,10 +140,14 @@ interface PoolManager {
 /**
  * Reads the round's accepted visits for one specification in ONE streaming query, taking only the answers the model
  * uses out of each visit's stored JSON (one scan per row, `answer-scan.ts`), straight into typed columns: no model
- * instances and no object per visit is kept. The row hash is computed while streaming. The read runs in a consistent snapshot together with the round's
- * data version, so the version stored with the run belongs to exactly these rows.
+ * instances and no object per visit is kept. The row hash is computed while streaming. The read runs in a consistent
+ * snapshot together with the round's data version, so the version stored with the run belongs to exactly these rows.
  */
-export async function loadRoundColumns(roundId: number, organisationId: number, spec: ModelSpec): Promise<RoundColumns> {
+export async function loadRoundColumns(roundId: number, organisationId: number, spec: ModelSpec, panel?: PanelRead): Promise<RoundColumns> {
+  // Several rounds (panel-data.ts): the same one query over every round, with each row's round and registered farm.
+  const roundIds = panel ? panel.rounds.map(r => r.id) : [roundId]
+  const roundLabel = new Map((panel?.rounds ?? []).map(r => [r.id, r.label]))
+  const base = panel ? 6 : 4
   const keys = [...new Set([...spec.covariates.map(c => c.name), ...(spec.weights ? [spec.weights] : [])])]
   const covariateOf = (k: string) => spec.covariates.find(c => c.name === k)
   // An option of a several-answer question (question.option) is read as 0/1, a number the engine takes as yes/no.
@@ -157,6 +163,8 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
   const conn = await manager.getConnection({ type: 'read' })
   let adopted = new Float64Array(0)
   let village = new CodedBuilder(0)
+  let roundCol = new CodedBuilder(0)
+  let farmCol = new CodedBuilder(0)
   let nums: Array<Float64Array | null> = []
   let texts: Array<CodedBuilder | null> = []
   const missingRows = keys.map(() => [] as number[])
@@ -168,12 +176,13 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
   let n = 0
   try {
     await conn.query('START TRANSACTION WITH CONSISTENT SNAPSHOT, READ ONLY')
-    const rounds = await conn.query('SELECT data_version FROM rounds WHERE id = ?', [roundId]) as Array<{ data_version: number }>
+    // Several rounds: the sum of their versions, which only ever go up, so it changes exactly when one of them does.
+    const rounds = await conn.query('SELECT SUM(data_version) AS data_version FROM rounds WHERE id IN (?)', [roundIds]) as Array<{ data_version: number }>
     dataVersion = Number(rounds[0]?.data_version ?? 0)
     // Counted in the same snapshot as the rows, so the columns can be sized exactly. By round alone: the round is
     // this organisation's (every caller found it by organisation first), and the (round_id, review_state) index
     // answers the count without reading a row; adding organisation_id made it read every visit.
-    const counts = await conn.query('SELECT review_state AS state, COUNT(*) AS n FROM visits WHERE round_id = ? GROUP BY review_state', [roundId]) as Array<{ state: string, n: number | bigint }>
+    const counts = await conn.query('SELECT review_state AS state, COUNT(*) AS n FROM visits WHERE round_id IN (?) GROUP BY review_state', [roundIds]) as Array<{ state: string, n: number | bigint }>
     let accepted = 0
     for (const c of counts) {
       if (c.state === 'accepted') accepted = Number(c.n)
@@ -182,6 +191,8 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     const capacity = Math.max(1, accepted)
     adopted = new Float64Array(capacity)
     village = new CodedBuilder(capacity)
+    roundCol = new CodedBuilder(panel ? capacity : 0)
+    farmCol = new CodedBuilder(panel ? capacity : 0)
     nums = keys.map((_, j) => (numeric[j] ? new Float64Array(capacity) : null))
     texts = keys.map((_, j) => (numeric[j] ? null : new CodedBuilder(capacity)))
     usedHash.update(`data version ${dataVersion}\n`)
@@ -200,10 +211,13 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     // id order within the round's accepted visits, so rows stream from the first one on. With the join MariaDB
     // chose to start from the villages and sort everything before sending a row, which for 10^6 visits outlasted
     // the connection's socket timeout.
-    const sql = `SELECT v.id, v.village_id, v.adopted, v.questionnaire_version_id, v.answers${flagged ? ', v.not_asked' : ''}
+    // Several rounds: rounds one after the other, each in id order (the same index serves it), and of a farm's
+    // accepted visits in one round only the latest saved (panel-export.ts).
+    const sql = `SELECT v.id, v.village_id, v.adopted, v.questionnaire_version_id${panel ? ', v.round_id, v.farm_id' : ''}, v.answers${flagged ? ', v.not_asked' : ''}
       FROM visits v FORCE INDEX (visits_round_id_review_state)
-      WHERE v.round_id = ? AND v.organisation_id = ? AND v.review_state = 'accepted' ORDER BY v.id`
-    const params = [roundId, organisationId]
+      WHERE v.round_id IN (?) AND v.organisation_id = ? AND v.review_state = 'accepted'${panel ? ` AND ${LATEST_OF_FARM_IN_ROUND}` : ''}
+      ORDER BY v.round_id, v.id`
+    const params = [roundIds, organisationId]
     let chunk = ''
     let usedChunk = ''
     // typeCast off for this query: the pool's per-value hook (Sequelize's type parsers) cost more than the decoding
@@ -219,9 +233,15 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
       adopted[n] = y
       village.codes[n] = village.code(code)
       let line = `${id}|${code}|${y}`
+      if (panel) {
+        const label = roundLabel.get(Number(row[4]))!
+        roundCol.codes[n] = roundCol.code(label)
+        farmCol.codes[n] = row[5] === null ? -1 : farmCol.code(String(row[5]))
+        line += `|${label}|${row[5] ?? '\\N'}`
+      }
       let used = true
-      scanAnswers(row[4] as string | null, wanted, scanned)
-      const notAsked = flagged && row[5] ? JSON.parse(row[5] as string) as string[] : null
+      scanAnswers(row[base] as string | null, wanted, scanned)
+      const notAsked = flagged && row[base + 1] ? JSON.parse(row[base + 1] as string) as string[] : null
       for (let j = 0; j < keys.length; j++) {
         const value = scanned[slotOf[j]!]!
         const option = optionOf[j]
@@ -264,6 +284,11 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     [VILLAGE_COLUMN]: { codes: village.codes.subarray(0, n), levels: village.levels }
   }
   const transfer = [adopted.buffer, village.codes.buffer] as ArrayBuffer[]
+  if (panel) {
+    columns[ROUND_COLUMN] = { codes: roundCol.codes.subarray(0, n), levels: roundCol.levels }
+    columns[FARM_COLUMN] = { codes: farmCol.codes.subarray(0, n), levels: farmCol.levels }
+    transfer.push(roundCol.codes.buffer as ArrayBuffer, farmCol.codes.buffer as ArrayBuffer)
+  }
   keys.forEach((key, j) => {
     if (texts[j]) {
       columns[key] = { codes: texts[j]!.codes.subarray(0, n), levels: texts[j]!.levels }

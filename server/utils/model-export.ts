@@ -8,7 +8,7 @@ import type { ModelRun } from '../db/models'
 // A fit's results as separate rectangular tables, in the units the results page shows: changes and ranges in
 // percentage points, village rates in percent. The cautions and what each file holds go in a read-me beside them.
 
-export const MODEL_TABLES = ['effects', 'coefficients', 'villages', 'fit', 'scenarios'] as const
+export const MODEL_TABLES = ['effects', 'coefficients', 'villages', 'fit', 'scenarios', 'transitions'] as const
 export type ModelTable = typeof MODEL_TABLES[number]
 
 const points = (v: number | null | undefined) => v === null || v === undefined || !Number.isFinite(v) ? null : Math.round(v * 100_000) / 1000
@@ -44,6 +44,7 @@ export function modelTableCsv(run: ModelRun, table: ModelTable, villageNames: Re
       (r.villages ?? []).map(v => [v.village, villageNames[v.village] ?? '', v.n, points(v.observedRate), points(v.estimate), points(v.ciLow), points(v.ciHigh), points(v.se)])
     )
   }
+  if (table === 'transitions') return transitionsCsv(r)
   if (table === 'scenarios') {
     const villageLevels = r.villageTreatment === 'random-intercept'
     return csvTable(
@@ -133,6 +134,14 @@ function checkRows(r: ModelResults): Rows {
   return rows
 }
 
+/** Several rounds: adoption and dis-adoption between consecutive rounds (farms of the register seen in both). */
+function transitionsCsv(r: ModelResults): string {
+  return csvTable(
+    ['from_round', 'to_round', 'farms_in_both', 'stayed_non_adopters', 'adopted', 'dis_adopted', 'stayed_adopters', 'adoption_rate_percent', 'dis_adoption_rate_percent'],
+    (r.rounds?.transitions ?? []).map(t => [t.from, t.to, t.farmsInBoth, t.stayedNon, t.adopted, t.disAdopted, t.stayedAdopter, points(t.adoptionRate), points(t.disAdoptionRate)])
+  )
+}
+
 /** What the zip holds and how to read it, with the cautions first. */
 export function modelReadme(run: ModelRun): string {
   const r = run.results!
@@ -150,6 +159,11 @@ export function modelReadme(run: ModelRun): string {
     '- villages.csv: observed and predicted adoption by village, in percent.',
     '- fit.csv: how well the model predicts, each measure with its meaning, the village model\'s or sampling plan\'s figures, the checks asked for and the warnings.',
     '- scenarios.csv: the what-if predictions, overall (village "all") and by village, in percent and percentage points.',
+    ...(r.rounds
+      ? ['- transitions.csv: between consecutive rounds, the farms of the farm register seen in both: how many stayed non-adopters,',
+          '  adopted, gave up (dis-adopted) or stayed adopters, with the adoption and dis-adoption rates. The round effects are the',
+          '  "round" rows of effects.csv and coefficients.csv (compared with the first round).']
+      : []),
     '',
     `How sure: ${CERTAINTY_LEVELS.map(l => `${l.words} (${l.rule})`).join('; ')}.`,
     ''
@@ -159,6 +173,6 @@ export function modelReadme(run: ModelRun): string {
 export function modelZip(run: ModelRun, villageNames: Record<string, string>): Uint8Array {
   return zipFiles({
     'README.txt': modelReadme(run),
-    ...Object.fromEntries(MODEL_TABLES.map(t => [`${t}.csv`, modelTableCsv(run, t, villageNames)]))
+    ...Object.fromEntries(MODEL_TABLES.filter(t => t !== 'transitions' || run.results?.rounds).map(t => [`${t}.csv`, modelTableCsv(run, t, villageNames)]))
   })
 }

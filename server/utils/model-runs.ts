@@ -4,13 +4,24 @@ import { ENGINE_VERSION, buildDesign, type ModelSpec, type ScenarioSpec } from '
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
 import { ModelRun, Round } from '../db/models'
 import type { SignedInUser } from './access'
+import { severalRoundsSpec } from './panel-data'
+import { roundFamily, type RoundFamily } from './round-family'
 
 // A run still 'running' after this long was cut off (a server restart, say) and is reported as failed.
 const STALE_AFTER_MS = 10 * 60_000
 
-function specOrBadRequest(request: ModelRequest, context: RoundContext): ModelSpec {
+function specOrBadRequest(request: ModelRequest, context: RoundContext, family?: RoundFamily): ModelSpec {
   try {
-    return specFromRequest(request, context.questions, OUTCOME_KEY)
+    // Several rounds: only the questions every round has can enter the model (round-family.ts).
+    request.covariates.forEach((c, i) => {
+      const key = c.key.split('.')[0]!
+      const question = context.questions.find(q => q.key === key)
+      if (family && question && !family.questions.some(q => q.key === key)) {
+        throw new ModelRequestError(`covariates.${i}`, `${question.label} is not asked in every chosen round: leave it out or choose other rounds`)
+      }
+    })
+    const spec = specFromRequest(request, family?.questions ?? context.questions, OUTCOME_KEY)
+    return request.several ? severalRoundsSpec(spec, request.several) : spec
   }
   catch (error) {
     if (error instanceof ModelRequestError) throw createError({ statusCode: 400, message: `${error.field}: ${error.message}`, data: { fieldErrors: { [error.field]: error.message } } })
@@ -19,10 +30,16 @@ function specOrBadRequest(request: ModelRequest, context: RoundContext): ModelSp
 }
 
 /** What a fit would use, before fitting: the equation, the visits used, and which are left out and why. */
+/** The rounds of a several-rounds request (this organisation's, 404 otherwise); undefined for one round. */
+async function familyOf(request: ModelRequest, organisationId: number): Promise<RoundFamily | undefined> {
+  return request.several ? roundFamily(organisationId, [request.roundId, ...request.several.roundIds]) : undefined
+}
+
 export async function previewModel(user: SignedInUser, request: ModelRequest) {
   const context = await roundContext(request.roundId, user.organisationId)
-  const spec = specOrBadRequest(request, context)
-  const data = await loadRoundColumns(request.roundId, user.organisationId, spec)
+  const family = await familyOf(request, user.organisationId)
+  const spec = specOrBadRequest(request, context, family)
+  const data = await loadRoundColumns(request.roundId, user.organisationId, spec, family)
   let rows = { totalRows: data.rowCount, used: 0, dropped: 0, byVariable: [] as Array<{ variable: string, label: string, count: number }> }
   let problem: string | null = null
   let villages = 0
@@ -38,10 +55,10 @@ export async function previewModel(user: SignedInUser, request: ModelRequest) {
 }
 
 /** Reads the rows (in the background: the request has been answered) and fits them in a worker thread. */
-async function fitAndStore(run: ModelRun, spec: ModelSpec) {
+async function fitAndStore(run: ModelRun, spec: ModelSpec, family?: RoundFamily) {
   const started = Date.now()
   try {
-    const data = await loadRoundColumns(run.roundId, run.organisationId, spec)
+    const data = await loadRoundColumns(run.roundId, run.organisationId, spec, family)
     await run.update({
       rowsHash: data.rowsHash,
       usedRowsHash: data.usedRowsHash,
@@ -51,6 +68,9 @@ async function fitAndStore(run: ModelRun, spec: ModelSpec) {
       dataVersion: data.dataVersion
     })
     const reply = await runFitInWorker(data.columns, spec, { transfer: data.transfer })
+    // Following each farm, the engine's "groups" are farms: their predictions are no village figures (and one
+    // farm's prediction is not for showing), so the village table, planning and the map have nothing to take.
+    if (reply.ok && run.request.several?.model === 'farm-effects') reply.results.villages = null
     if (reply.ok) await run.update({ status: 'done', results: reply.results, durationMs: Date.now() - started, finishedAt: new Date() })
     else await run.update({ status: 'failed', error: { code: reply.error.code, message: reply.error.message }, durationMs: Date.now() - started, finishedAt: new Date() })
   }
@@ -66,7 +86,8 @@ async function fitAndStore(run: ModelRun, spec: ModelSpec) {
  */
 export async function startModelRun(event: H3Event, user: SignedInUser, request: ModelRequest, options: { wait?: boolean } = {}) {
   const context = await roundContext(request.roundId, user.organisationId)
-  const spec = specOrBadRequest(request, context)
+  const family = await familyOf(request, user.organisationId)
+  const spec = specOrBadRequest(request, context, family)
   if (!await hasAcceptedVisits(request.roundId)) throw createError({ statusCode: 422, message: 'This round has no accepted visits yet: accept visits in Review before fitting a model.' })
   const run = await ModelRun.create({
     organisationId: user.organisationId,
@@ -86,7 +107,7 @@ export async function startModelRun(event: H3Event, user: SignedInUser, request:
     finishedAt: null
   })
   await audit(event, user, { action: 'model.fit', entityType: 'model_run', entityId: run.id, details: { roundId: request.roundId, link: spec.link } })
-  const fitting = fitAndStore(run, spec)
+  const fitting = fitAndStore(run, spec, family)
   if (options.wait) await fitting
   return run
 }
@@ -106,8 +127,11 @@ export async function findModelRun(id: number, organisationId: number): Promise<
  */
 export async function runDataChanged(run: ModelRun): Promise<boolean> {
   if (run.status !== 'done') return false
-  const round = await Round.findByPk(run.roundId, { attributes: ['id', 'dataVersion'] })
-  return run.dataVersion === null || run.dataVersion === undefined || round?.dataVersion !== run.dataVersion
+  // Several rounds: the sum of every round's version, as the loader stored it (model-data.ts).
+  const ids = [run.roundId, ...(run.request.several?.roundIds ?? [])]
+  const rounds = await Round.findAll({ where: { id: ids }, attributes: ['id', 'dataVersion'] })
+  const now = rounds.length === ids.length ? rounds.reduce((sum, r) => sum + r.dataVersion, 0) : null
+  return run.dataVersion === null || run.dataVersion === undefined || now !== run.dataVersion
 }
 
 export function runSummary(run: ModelRun) {
@@ -117,9 +141,11 @@ export function runSummary(run: ModelRun) {
     status: run.status,
     link: run.spec.link ?? 'probit',
     // The village models have no `se` choice: name the treatment instead of a misleading 'conventional'.
-    se: run.spec.villageTreatment === 'survey' || run.spec.villageTreatment === 'random-intercept' ? run.spec.villageTreatment : run.spec.se ?? 'conventional',
+    // Following each farm over several rounds, the random intercept is the farm's, not the village's.
+    se: run.request.several?.model === 'farm-effects' ? 'farm-effects' : run.spec.villageTreatment === 'survey' || run.spec.villageTreatment === 'random-intercept' ? run.spec.villageTreatment : run.spec.se ?? 'conventional',
     equation: equationText(run.spec),
     covariates: run.spec.covariates.map(c => c.label ?? c.name),
+    ...(run.request.several ? { rounds: { count: run.request.several.roundIds.length + 1, followsFarms: run.request.several.model === 'farm-effects' } } : {}),
     rowCount: run.rowCount,
     used: run.results?.rows.used ?? null,
     loglik: run.results?.fit.loglik ?? null,
@@ -135,7 +161,7 @@ export function runSummary(run: ModelRun) {
 export async function runScenarios(user: SignedInUser, run: ModelRun, scenarios: ScenarioSpec[]) {
   if (run.status !== 'done' || !run.results) throw createError({ statusCode: 409, message: 'This run has no results to build scenarios on.' })
   const spec: ModelSpec = { ...run.spec, scenarios }
-  const data = await loadRoundColumns(run.roundId, user.organisationId, spec)
+  const data = await loadRoundColumns(run.roundId, user.organisationId, spec, await familyOf(run.request, user.organisationId))
   if (data.dataVersion !== run.dataVersion || data.rowsHash !== run.rowsHash) {
     throw createError({ statusCode: 409, message: 'The accepted visits have changed since this run; fit the model again before adding scenarios.' })
   }

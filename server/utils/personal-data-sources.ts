@@ -194,6 +194,26 @@ const sentBackMail: PersonalDataSource = {
   }
 }
 
+// The farm register (migration 0240) holds each farm's code: erased, it becomes the same opaque id as the visits'
+// codes, so the farm's rounds stay linked for the models without anything leading back to the farm. After the
+// retention purge it becomes the pseudonym, once none of the farm's visits keeps the code.
+const farmRegister: PersonalDataSource = {
+  label: 'The farm register: the farm code that links its visits across rounds',
+  kind: 'names',
+  eraseFarm: async ({ organisationId, farmCode, opaqueId, transaction }) => ({
+    count: await update('UPDATE farms SET code = ?, updated_at = NOW(3) WHERE organisation_id = ? AND code = ?', [opaqueId, organisationId, farmCode], transaction)
+  }),
+  purgeRounds: async ({ organisationId, roundIds, transaction }) => {
+    const farms = await select<{ id: number, code: string }>(`SELECT f.id, f.code FROM farms f WHERE f.organisation_id = ?
+      AND EXISTS (SELECT 1 FROM visits v WHERE v.farm_id = f.id AND v.round_id IN (?))
+      AND NOT EXISTS (SELECT 1 FROM visits v WHERE v.farm_id = f.id AND v.names_purged_at IS NULL)
+      AND f.code NOT LIKE 'P-%' AND f.code NOT LIKE 'E-%' ORDER BY f.id FOR UPDATE`, [organisationId, roundIds], transaction)
+    for (const f of farms) await update('UPDATE farms SET code = ?, updated_at = NOW(3) WHERE id = ?', [pseudonymOf(organisationId, f.code), f.id], transaction)
+    return { count: farms.length }
+  }
+}
+
 /** Add a new holder of farmers' personal data here (and nowhere else). */
-// Order matters for the purge: sources that find rows by farm code come before visitIdentifiers replaces the codes.
-export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, sentBackMail, visitAuditDetails, visitIdentifiers]
+// Order matters for the purge: sources that find rows by farm code come before visitIdentifiers replaces the codes;
+// the register after it, as it waits until no visit of the farm keeps the code.
+export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, sentBackMail, visitAuditDetails, visitIdentifiers, farmRegister]

@@ -52,6 +52,8 @@ type ContentChoices = Pick<PublishRequest, 'targetRate' | 'scenarioNames' | 'tar
 async function contentToPublish(user: SignedInUser, run: ModelRun, request: ContentChoices): Promise<{ round: Round, content: PublishedContent }> {
   const results = run.results
   if (run.status !== 'done' || !results) throw createError({ statusCode: 409, message: 'Only a finished fit can be published.' })
+  // Funders see one round's villages; a model over several rounds describes no one round.
+  if (run.request.several) throw createError({ statusCode: 409, message: 'A model over several rounds is for analysis: publish a model of one round.' })
   if (!results.converged) throw createError({ statusCode: 409, message: 'This fit did not converge; it cannot be published.' })
   if (!results.villages) throw createError({ statusCode: 409, message: 'This fit has no village predictions (it was not clustered by village).' })
   const round = await Round.findOne({ where: { id: run.roundId, organisationId: user.organisationId } })

@@ -7,6 +7,8 @@ import { answersSchemaFor, adoptedOf, notAskedKeys } from '#shared/utils/schemas
 import { AuditEntry, Photo, QuestionnaireVersion, Round, User, Village, Visit } from '../db/models'
 import { database } from '../db/connection'
 import type { SignedInUser } from './access'
+import { erasedFarmCodes } from './erasure'
+import { linkVisitsToFarms } from './farm-register'
 import { edgeValues } from './visit-flags'
 
 const SORTS: Record<ReviewQuery['sort'], (dir: 'ASC' | 'DESC') => Order> = {
@@ -115,6 +117,14 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
     else if (action.action === 'send_back') {
       await visit.update({ reviewState: 'sent_back', reviewReason: action.reason, version: visit.version + 1 }, { transaction })
       await audit(event, user, { ...base, details: { reason: action.reason } }, transaction)
+    }
+    else if (action.action === 'farm_code') {
+      const before = visit.farmCode
+      if (before === action.farmCode) throw createError({ statusCode: 400, message: 'farmCode: This is the farm code the visit has already.', data: { fieldErrors: { farmCode: 'This is the farm code the visit has already.' } } })
+      if ((await erasedFarmCodes(user.organisationId, [action.farmCode])).size) throw createError({ statusCode: 409, message: 'This farm\'s personal data were erased at the farmer\'s request: its code cannot be used again.' })
+      await visit.update({ farmCode: action.farmCode, version: visit.version + 1 }, { transaction })
+      await linkVisitsToFarms({ organisationId: user.organisationId, roundIds: [visit.roundId], farmCodes: [action.farmCode] }, transaction)
+      await audit(event, user, { ...base, details: { reason: action.reason, before: { farmCode: before }, after: { farmCode: action.farmCode } } }, transaction)
     }
     else {
       const version = await QuestionnaireVersion.findByPk(visit.questionnaireVersionId, { transaction })

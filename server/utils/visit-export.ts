@@ -16,7 +16,7 @@ import { pseudonymOf } from './pseudonyms'
 export interface ExportMode { identifying: boolean, precision: VisitExportQuery['precision'] }
 export const PSEUDONYMISED: ExportMode = { identifying: false, precision: '2' }
 
-function rounded(value: number | null, precision: ExportMode['precision']): string | number | null {
+export function rounded(value: number | null, precision: ExportMode['precision']): string | number | null {
   if (value === null) return null
   return precision === 'none' ? null : value.toFixed(Number(precision))
 }
@@ -80,7 +80,7 @@ export async function acceptedVisitsCsv(roundId: number, organisationId: number,
  * option (empty when unanswered or not asked, never 0: no answer is not "not ticked"); and for a question with a
  * condition its `.asked` cell, 1 or 0 (empty when the visit's version did not have the question).
  */
-function answerCells(q: Question, value: unknown, asked: boolean | null): unknown[] {
+export function answerCells(q: Question, value: unknown, asked: boolean | null): unknown[] {
   const own = q.type === 'several'
     ? q.options.map(o => Array.isArray(value) && !isNoAnswer(value) ? (value.includes(o.value) ? 1 : 0) : null)
     : [typeof value === 'boolean' ? (value ? 'yes' : 'no') : value]

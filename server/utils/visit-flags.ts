@@ -66,5 +66,6 @@ export const FLAG_LABELS: Record<keyof VisitFlags, string> = {
   duplicateFarmCode: 'Farm code used twice in this round',
   farFromVillageKm: 'GPS point far from the village',
   edgeValues: 'Answer at the edge of its range',
-  tooFastSeconds: 'Interview saved very fast'
+  tooFastSeconds: 'Interview saved very fast',
+  farmInOtherVillage: 'Farm code registered in another village'
 }

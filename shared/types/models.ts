@@ -10,6 +10,8 @@ export interface ModelRunSummary {
   equation: string
   /** The characteristics in the fit, by their labels. */
   covariates: string[]
+  /** Several rounds together: how many rounds, and whether each farm is followed; absent for one round. */
+  rounds?: { count: number, followsFarms: boolean }
   /** In the list of a round's fits: whether this is the fit funders see now. */
   published?: boolean
   /** Null until the fit has read its rows. */

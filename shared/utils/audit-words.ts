@@ -30,6 +30,7 @@ const ACTIONS: Record<string, string> = {
   'visit.accept': 'Accepted a visit',
   'visit.send_back': 'Sent a visit back',
   'visit.correct': 'Corrected a visit',
+  'visit.farm_code': 'Corrected a visit\'s farm code',
   'visit.bulk_accept': 'Accepted unflagged visits together',
   'visits.import': 'Imported visits from a file',
   'model.fit': 'Fitted a model',

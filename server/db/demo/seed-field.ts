@@ -4,6 +4,7 @@ import { Assignment, Organisation, QuestionnaireVersion, Round, RoundVillage, Us
 import { notAskedKeys } from '../../../shared/utils/schemas/visit'
 import { DEMO_TECHNOLOGY, demoChecks, generateDemo } from './field-demo'
 import { withDemoLanguages } from './demo-languages'
+import { registerDemoFarms, seedEarlierDemoRound } from './second-round'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
 export const DEMO_ASSIGNED_VILLAGES = [0, 3, 5, 8, 12, 17]
@@ -69,6 +70,8 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       version: 2
     }))
     for (let i = 0; i < rows.length; i += 500) await Visit.bulkCreate(rows.slice(i, i + 500), { transaction })
+    await seedEarlierDemoRound({ organisationId: organisation.id, enumeratorId: enumerator.id, villageRows, villages, later: visits, before: round, transaction })
+    await registerDemoFarms(sequelize, organisation.id, transaction)
   })
   return true
 }

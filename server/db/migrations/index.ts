@@ -14,6 +14,7 @@ import * as m0110 from './0110-audit-search'
 import * as m0140 from './0140-visit-not-asked'
 import * as m0150 from './0150-personal-data'
 import * as m0200 from './0200-field-devices'
+import * as m0240 from './0240-farm-register'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
 // Add a new file as NNNN-what-it-does.ts and append it here.
@@ -33,5 +34,6 @@ export const MIGRATIONS = [
   { name: '0110-audit-search', ...m0110 },
   { name: '0140-visit-not-asked', ...m0140 },
   { name: '0150-personal-data', ...m0150 },
-  { name: '0200-field-devices', ...m0200 }
+  { name: '0200-field-devices', ...m0200 },
+  { name: '0240-farm-register', ...m0240 }
 ]

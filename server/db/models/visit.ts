@@ -11,6 +11,8 @@ export interface VisitFlags {
   farFromVillageKm?: number
   edgeValues?: string[]
   tooFastSeconds?: number
+  /** The farm code is registered in another village (its name): the visit is not linked to the farm. */
+  farmInOtherVillage?: string
 }
 
 /** One farm visit; its id is made on the device, so a resend upserts instead of duplicating. */

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { safeText } from '../schemas/safe-text'
+import { severalRoundsSchema } from '../schemas/panel'
 
 const key = z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Unknown question key')
 /** A question's key, or question.option for one option of a several-answer question (one yes/no term). */
@@ -71,8 +72,11 @@ export const modelRequestSchema = z.object({
   weights: key.optional(),
   margins: z.enum(['ame', 'mem']).default('ame'),
   villages: z.enum(VILLAGE_CHOICES).default('cluster'),
-  checks: checksChoiceSchema.default({ linkTest: false, hetero: [] })
+  checks: checksChoiceSchema.default({ linkTest: false, hetero: [] }),
+  /** Several rounds together (the request's round and these); absent: this round alone. */
+  several: severalRoundsSchema.optional()
 }).superRefine((request, ctx) => {
+  if (request.several) severalRoundsProblems(request, ctx)
   if (request.villages === 'survey' && !request.weights) ctx.addIssue({ code: 'custom', path: ['weights'], message: 'The sampling plan needs the question that holds the sampling weights' })
   if (request.villages === 'random-intercept' && request.link !== 'probit' && request.link !== 'logit') {
     ctx.addIssue({ code: 'custom', path: ['link'], message: 'Village adoption levels are available with the probit or logit only' })
@@ -91,6 +95,17 @@ export const modelRequestSchema = z.object({
   })
 })
 export type ModelRequest = z.infer<typeof modelRequestSchema>
+
+function severalRoundsProblems(request: { roundId: number, link: string, villages: string, several?: { roundIds: number[], model: string } }, ctx: z.RefinementCtx) {
+  const several = request.several!
+  if (several.roundIds.includes(request.roundId) || new Set(several.roundIds).size !== several.roundIds.length) {
+    ctx.addIssue({ code: 'custom', path: ['several', 'roundIds'], message: 'Choose each other round once' })
+  }
+  if (request.villages !== 'cluster') ctx.addIssue({ code: 'custom', path: ['villages'], message: 'Several rounds together allow for villages in the standard errors only' })
+  if (several.model === 'farm-effects' && request.link !== 'probit' && request.link !== 'logit') {
+    ctx.addIssue({ code: 'custom', path: ['link'], message: 'Following each farm is available with the probit or logit only' })
+  }
+}
 export type ModelRequestInput = z.input<typeof modelRequestSchema>
 
 /** A counterfactual the coordinator asks for: set a characteristic for everyone, or shift it, maybe in some villages. */

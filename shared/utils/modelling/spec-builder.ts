@@ -95,8 +95,11 @@ export function equationText(spec: ModelSpec): string {
     const label = (name: string) => spec.covariates.find(c => c.name === name)?.label ?? name
     terms.push(`${label(a)} × ${label(b)}`)
   }
+  // Several rounds: the engine adds one term per later round (and, following each farm, the farm's own level).
+  if (spec.rounds) terms.push('[round = each later round]')
   const subscripts = '₀₁₂₃₄₅₆₇₈₉'
   const sub = (n: number) => String(n).split('').map(d => subscripts[Number(d)]).join('')
   const body = ['β₀', ...terms.map((t, i) => `β${sub(i + 1)}·${t}`)].join(' + ')
-  return `P(${spec.outcomeLabel ? 'adopt' : spec.outcome} = 1) = ${LINK_SYMBOL[spec.link ?? 'probit']}(${body})`
+  const farm = spec.panelId && spec.villageTreatment === 'random-intercept' ? ' + u_farm' : ''
+  return `P(${spec.outcomeLabel ? 'adopt' : spec.outcome} = 1) = ${LINK_SYMBOL[spec.link ?? 'probit']}(${body}${farm})`
 }

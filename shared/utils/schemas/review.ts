@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { safeText } from './safe-text'
+import { farmCodeSchema } from './visit'
 
 export const REVIEW_SORTS = ['savedAt', 'farmCode', 'village', 'enumerator', 'reviewState'] as const
 
@@ -28,8 +29,14 @@ const reviewActions = z.discriminatedUnion('action', [
     action: z.literal('correct'),
     answers: z.record(z.string(), z.unknown()).refine(a => Object.keys(a).length > 0, 'Change at least one answer'),
     reason: safeText(z.string().trim().min(3, 'Say why you correct this').max(500), { multiline: true })
+  }),
+  // A mistyped farm code: the visit is linked again to the registered farm of the corrected code (farm-register.ts).
+  z.object({
+    action: z.literal('farm_code'),
+    farmCode: farmCodeSchema,
+    reason: safeText(z.string().trim().min(3, 'Say why you correct this').max(500), { multiline: true })
   })
-], { error: 'Choose accept, send_back or correct' })
+], { error: 'Choose accept, send_back, correct or farm_code' })
 export const reviewActionSchema = reviewActions
 export type ReviewAction = z.infer<typeof reviewActionSchema>
 
