@@ -13,6 +13,7 @@ import { spawn } from 'node:child_process'
 import { readFileSync } from 'node:fs'
 import { join } from 'node:path'
 import { QueryTypes } from 'sequelize'
+import { rootSql } from '../scripts/lib/mariadb.mjs'
 import { startStack } from '../scripts/lib/stack.mjs'
 import { DATA, findExecutable } from '../scripts/lib/system.mjs'
 import { loadAverage, mergeResults, printTable, round, type BenchEntry } from './lib/results-file'
@@ -59,6 +60,27 @@ _ = (m.margeff, m.margeff_se)
 t2 = time.time()
 print(json.dumps({"total_ms": (t2 - t0) * 1000, "read_ms": (t1 - t0) * 1000, "fit_ms": (t2 - t1) * 1000, "rows": len(df), "version": statsmodels.__version__, "coef": [float(v) for v in res.params]}))
 `
+
+/**
+ * Waits until InnoDB has finished the seed's background work (dirty pages written out, old row versions purged), so
+ * that neither side of the comparison pays for it: whichever ran first after seeding 10^6 rows read through the
+ * flushing. Called before each side.
+ */
+async function settle() {
+  const status = (name: string) => Number(/\t(\d+)/.exec(rootSql(`SHOW GLOBAL STATUS LIKE '${name}'`))?.[1] ?? 0)
+  const historyLength = () => Number(rootSql('SELECT COUNT FROM information_schema.INNODB_METRICS WHERE NAME = \'trx_rseg_history_len\'').trim() || 0)
+  const before = rootSql('SELECT @@GLOBAL.innodb_max_dirty_pages_pct').trim()
+  rootSql('SET GLOBAL innodb_max_dirty_pages_pct = 0')
+  try {
+    const until = Date.now() + 180_000
+    while (Date.now() < until && (status('Innodb_buffer_pool_pages_dirty') > 100 || historyLength() > 1000)) {
+      await new Promise(resolve => setTimeout(resolve, 500))
+    }
+  }
+  finally {
+    rootSql(`SET GLOBAL innodb_max_dirty_pages_pct = ${Number(before)}`)
+  }
+}
 
 async function main() {
   const stack = await startStack({
@@ -130,7 +152,9 @@ async function main() {
       console.log(`seeded ${n} accepted visits in SQL in ${((performance.now() - tSeed) / 1000).toFixed(1)} s`)
 
       const request = { roundId, covariates: Array.from({ length: K }, (_, j) => ({ key: `x${j + 1}` })), link: 'probit', se: 'cluster' }
-      // No warm-up: the first fit of a freshly written round is what a coordinator waits for.
+      // No warm-up: the first fit of a freshly written round is what a coordinator waits for; but InnoDB's own
+      // after-work of the seed is let finish first, as it is before the peer.
+      await settle()
       const rssBefore = rssMb(stack.server.pid!, 'VmRSS')
       const t0 = performance.now()
       const posted = await coordinator.post<{ id: number }>('/api/models', request)
@@ -160,6 +184,7 @@ async function main() {
       gets.sort((a, b) => a - b)
 
       // The peer: mariadb CLI → pandas → statsmodels, timed from the start of the query.
+      await settle()
       const cols = Array.from({ length: K }, (_, j) => `JSON_VALUE(answers, '$.x${j + 1}') AS x${j + 1}`).join(', ')
       const sql = `SELECT adopted, village_id AS village, ${cols} FROM visits WHERE round_id = ${roundId} AND review_state = 'accepted'`
       const command = `"${client}" --no-defaults --batch -h${url.hostname} -P${url.port} -u${decodeURIComponent(url.username)} ${url.pathname.slice(1)} -e "${sql.replaceAll('"', '\\"').replaceAll('$', '\\$')}" | ${PYTHON} -c '${PEER.replaceAll('\'', '\'"\'"\'')}' "$(date +%s.%N)"`

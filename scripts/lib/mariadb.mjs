@@ -84,9 +84,15 @@ async function stopByPidFile(timeoutMs = 120_000) {
 }
 
 function sql(statements) {
+  rootSql(statements)
+}
+
+/** Runs statements as root over the private server's socket; returns what they print (tab-separated, no headers). */
+export function rootSql(statements) {
   const client = findExecutable('mariadb') ?? findExecutable('mysql')
-  const result = spawnSync(client, ['--no-defaults', `--socket=${SOCKET}`, '-uroot', '-e', statements], { encoding: 'utf8' })
+  const result = spawnSync(client, ['--no-defaults', `--socket=${SOCKET}`, '-uroot', '-N', '-B', '-e', statements], { encoding: 'utf8' })
   if (result.status !== 0) throw new Error(`MariaDB statement failed: ${result.stderr.trim()}`)
+  return result.stdout
 }
 
 /**
