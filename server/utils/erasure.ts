@@ -128,6 +128,11 @@ export async function isErasedVisit(visitId: string): Promise<boolean> {
   return rows.length > 0
 }
 
+/** The farm codes, among these, whose farm was erased in the organisation. */
+export async function erasedFarmCodes(organisationId: number, farmCodes: string[]): Promise<Set<string>> {
+  return (await erasedAmong(organisationId, 0, farmCodes, [])).codes
+}
+
 /**
  * Among a sync batch's farm codes and device ids: the codes whose farm was erased in the organisation, and the ids
  * of this enumerator's visits that were erased (matched by the id the tablet knows, migration 0070). One round trip:
