@@ -3,6 +3,7 @@ import { checkDefinitionProblems } from '../answer-checks'
 import { conditionProblems } from '../asking'
 import { answerCheckSchema } from './checks'
 import { conditionSchema } from './conditions'
+import { groupDefinitionProblems, groupSchemaOf } from './groups'
 import { isReservedKey, safeText } from './safe-text'
 
 // A questionnaire is a list of typed questions; one version of it yields one zod schema for a visit,
@@ -76,7 +77,9 @@ export type QuestionInput = z.input<typeof questionSchema>
 export const questionnaireDefinitionSchema = z.object({
   questions: z.array(questionSchema).min(1).max(200),
   /** Checks across answers with the coordinator's messages (absent in versions saved before checks existed). */
-  checks: z.array(answerCheckSchema).max(50, 'At most 50 checks').optional()
+  checks: z.array(answerCheckSchema).max(50, 'At most 50 checks').optional(),
+  /** Repeated groups (e.g. plots), answered once per row (absent in versions saved before groups existed). */
+  groups: z.array(groupSchemaOf(questionSchema)).max(10, 'At most 10 groups').optional()
 }).superRefine((d, ctx) => {
   const seen = new Set<string>()
   d.questions.forEach((q, i) => {
@@ -90,6 +93,7 @@ export const questionnaireDefinitionSchema = z.object({
   if (outcome?.askWhen) ctx.addIssue({ code: 'custom', path: ['questions', d.questions.indexOf(outcome), 'askWhen'], message: 'The adoption question is asked at every farm: it cannot have a condition' })
   for (const p of conditionProblems(d.questions)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   for (const p of checkDefinitionProblems(d.questions, d.checks)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
+  for (const p of groupDefinitionProblems(d.questions, d.groups, OUTCOME_KEY)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   // Exports add derived columns (key.option, key.asked): two of them with the same name would be ambiguous.
   const columns = new Map<string, string>()
   d.questions.forEach((q, i) => {
@@ -101,6 +105,7 @@ export const questionnaireDefinitionSchema = z.object({
   })
 })
 export type QuestionnaireDefinition = z.infer<typeof questionnaireDefinitionSchema>
+export type QuestionGroup = NonNullable<QuestionnaireDefinition['groups']>[number]
 
 /**
  * The columns a question gets in the visits export: its key (one 0/1 column per option instead for a several-answer
