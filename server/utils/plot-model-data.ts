@@ -162,7 +162,7 @@ export async function loadPlotModelData(organisationId: number, request: PlotMod
     const { row, rows } = current
     counts.rows++
     let complete = y.push(Number(row[at.adopted]) === 1 ? 'true' : 'false')
-    cluster.push(villages.get(Number(row[1])) ?? null)
+    cluster.push(request.cluster === 'farm' ? current.id : villages.get(Number(row[1])) ?? null)
     farmCovariates.forEach((q, j) => {
       if (!farmCols[j]!.push(text(row[at.farm + j]))) {
         complete = false

@@ -24,7 +24,7 @@ export async function fitPlotModel(organisationId: number, request: PlotModelReq
   return {
     level: request.level,
     group: { key: data.group.key, label: data.group.label },
-    cluster: request.level === 'plot' ? request.cluster : 'village',
+    cluster: request.cluster,
     counts: data.counts,
     link: results.link,
     converged: results.converged,

@@ -37,7 +37,8 @@ export const plotModelRequestSchema = z.object({
   farmCovariates: z.array(key).max(30).default([]),
   /** Farm level: terms worked out from the rows. */
   rowTerms: z.array(plotTermSchema).max(10).default([]),
-  /** Plot level: rows of one farm, or of one village, are not independent. */
+  /** Standard errors clustered by farm (plot level: a farm's plots are not independent; farm level: each farm alone,
+   *  i.e. robust) or by village. */
   cluster: z.enum(['farm', 'village']).default('village')
 }).superRefine((r, ctx) => {
   if (r.level === 'plot' && !r.outcome) ctx.addIssue({ code: 'custom', path: ['outcome'], message: 'Choose the yes/no question of each row that the model explains' })

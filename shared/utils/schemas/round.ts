@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { answerCheckSchema } from './checks'
+import { groupSchemaOf } from './groups'
 import { questionSchema } from './questionnaire'
 import { safeText } from './safe-text'
 
@@ -20,7 +21,7 @@ export const roundPatchSchema = z.object({
 }).refine(b => b.status !== undefined || b.targetVisitsPerVillage !== undefined, 'Send a status or a target')
 export type RoundPatch = z.infer<typeof roundPatchSchema>
 
-export const questionnaireSaveSchema = z.object({ questions: z.array(questionSchema).min(1).max(200), checks: z.array(answerCheckSchema).max(50).default([]) })
+export const questionnaireSaveSchema = z.object({ questions: z.array(questionSchema).min(1).max(200), checks: z.array(answerCheckSchema).max(50).default([]), groups: z.array(groupSchemaOf(questionSchema)).max(10).default([]) })
 
 export const roundVillagesSchema = z.object({ villageIds: z.array(z.number().int().positive()).max(2000) })
 
