@@ -181,18 +181,22 @@ describe('models from the plots', () => {
     writeFileSync(path.join(dir, 'plots.csv'), (await coordinator.get<string>(`/api/rounds/${round.roundId}/export?part=rows&group=plots`)).body)
   })
 
-  // Outside reference: R's glm (probit) on the exported rows, with the cluster-robust covariance built by hand
-  // (CR1: G/(G-1)·(n-1)/(n-k) times the sandwich of the score sums per cluster, as the engine documents).
+  // Outside reference: R's glm (probit) on the exported rows for the estimates; the cluster-robust covariance built by
+  // hand in R from the probit's observed information (the bread, as Newton's method and statsmodels use; glm's vcov is
+  // the expected one) and the score sums per cluster, times CR1's G/(G-1)·(n-1)/(n-k), as the engine documents.
   function rFit(formula: string, data: string, cluster: string): number[] {
     const script = `v <- read.csv("${path.join(dir, 'visits.csv')}", stringsAsFactors = FALSE)
       p <- read.csv("${path.join(dir, 'plots.csv')}", stringsAsFactors = FALSE)
       ${data}
       f <- glm(${formula}, family = binomial(link = "probit"), data = d)
       X <- model.matrix(f); n <- nrow(X); k <- ncol(X)
-      U <- X * residuals(f, "working") * f$weights
+      y <- f$y; eta <- drop(X %*% coef(f)); q <- 2 * y - 1
+      lam <- q * dnorm(q * eta) / pnorm(q * eta)
+      B <- solve(crossprod(X * sqrt(lam * (lam + eta))))
+      U <- X * lam
       g <- d[[${JSON.stringify(cluster)}]][as.numeric(rownames(X))]
       S <- rowsum(U, g); G <- nrow(S)
-      V <- vcov(f) %*% crossprod(S) %*% vcov(f) * G / (G - 1) * (n - 1) / (n - k)
+      V <- B %*% crossprod(S) %*% B * G / (G - 1) * (n - 1) / (n - k)
       cat(sprintf("%.10f", c(coef(f), sqrt(diag(V)), n)), sep = "\\n")`
     const r = spawnSync('Rscript', ['-e', script], { encoding: 'utf8' })
     expect(r.status, r.stderr).toBe(0)
@@ -227,12 +231,12 @@ describe('models from the plots', () => {
     // Every accepted visit of the version with plots, plus the one of the first version (no rows: its share is missing).
     expect(fit.body.counts.farmsWithoutRows).toBe(1)
     expect(fit.body.counts.kept).toBe(fit.body.counts.farms - 1)
-    const ref = rFit('y ~ share + farm_size_ha',
+    const ref = rFit('y ~ farm_size_ha + share',
       `p$sown_area <- p$plot_size_ha * (p$plot_sown == "yes")
        a <- aggregate(cbind(sown_area, plot_size_ha) ~ visit_id, data = p, FUN = sum)
        a$share <- a$sown_area / a$plot_size_ha
        d <- merge(v, a[, c("visit_id", "share")], by = "visit_id"); d$y <- as.numeric(d$adopted == "yes")`, 'visit_id')
-    expect(fit.body.coefficients.map(c => c.term)).toEqual(['(Intercept)', 'plot_sown:share_area', 'farm_size_ha'])
+    expect(fit.body.coefficients.map(c => c.term)).toEqual(['(Intercept)', 'farm_size_ha', 'plot_sown:share_area'])
     fit.body.coefficients.forEach((c, i) => {
       expect(c.estimate).toBeCloseTo(ref[i]!, 5)
       expect(c.se).toBeCloseTo(ref[3 + i]!, 5)
