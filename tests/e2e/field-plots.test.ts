@@ -123,7 +123,7 @@ describe('plots on a tablet with no network, then review', () => {
     await panel.getByRole('button', { name: 'Save correction' }).click()
     await poll(async () => ((await Visit.findOne({ where: { farmCode } }))!.answers.plots as Array<Record<string, unknown>>)[0]!.plot_size_ha).toBe(0.9)
     await poll(() => review.getByText(`Farm ${farmCode} corrected`).count()).toBeGreaterThan(0)
-    await review.getByTestId('review-row').first().click()
+    // The panel stays open on the corrected visit, which now lists the correction.
     await poll(() => review.getByTestId('review-corrections').innerText(), 15_000).toContain('Plots, row 1 · Plot size: 0.8 ha → 0.9 ha')
     await poll(() => review.getByTestId('review-rows-plots').innerText()).toContain('0.9 ha')
     await review.screenshot({ path: path.join(SCREENSHOTS, 'review-plots.png'), fullPage: true })
@@ -166,7 +166,8 @@ describe('plots on a tablet with no network, then review', () => {
   it('fits a plot-level model on the demo\'s plots from the model page and says how many rows it keeps', async () => {
     const context = await newTabletContext(browser)
     const page = await context.newPage()
-    await signIn(page, 'coordinator', '/models')
+    const demoRound = await Round.findOne({ where: { name: 'Sorghum seed adoption, 2026 short rains' } })
+    await signIn(page, 'coordinator', `/models?round=${demoRound!.id}`)
     const panel = page.getByTestId('plot-model-panel')
     await poll(() => panel.count(), 20_000).toBe(1)
     await panel.getByLabel('Outcome of each row (a yes/no question)').selectOption({ label: 'Was the seed sown on this plot?' })
