@@ -126,7 +126,8 @@ describe('plots on a tablet with no network, then review', () => {
     // The panel stays open on the corrected visit, which now lists the correction.
     await poll(() => review.getByTestId('review-corrections').innerText(), 15_000).toContain('Plots, row 1 · Plot size: 0.8 ha → 0.9 ha')
     await poll(() => review.getByTestId('review-rows-plots').innerText()).toContain('0.9 ha')
-    await review.screenshot({ path: path.join(SCREENSHOTS, 'review-plots.png'), fullPage: true })
+    await review.getByTestId('review-corrections').scrollIntoViewIfNeeded()
+    await review.screenshot({ path: path.join(SCREENSHOTS, 'review-plots.png') })
     await desk.close()
   })
 

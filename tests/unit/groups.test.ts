@@ -121,3 +121,17 @@ describe('group rows in a visit', () => {
     expect(kept.plots).toEqual([{ row: ROW1, plot_used: false }])
   })
 })
+
+describe('a correction of rows in words', () => {
+  it('names each changed answer by row and label, and rows added or removed', async () => {
+    const { groupChangeLines } = await import('../../app/utils/group-text')
+    const g = definition.groups![0]!
+    const before = [{ row: ROW1, plot_size: 0.8, plot_used: false }, { row: ROW2, plot_size: 2, plot_used: false }]
+    const after = [{ row: ROW1, plot_size: 0.9, plot_used: false, plot_soil: 'loam' }]
+    expect(groupChangeLines(g, before, after)).toEqual([
+      'Plots, row 1 · Plot size: 0.8 ha → 0.9 ha',
+      'Plots, row 1 · Soil: — → Loam',
+      'Plots, row 2 removed (as it was before)'
+    ])
+  })
+})
