@@ -102,6 +102,11 @@ describe('plots on a tablet with no network, then review', () => {
     expect(plots).toHaveLength(1)
     expect(plots[0]).toMatchObject({ plot_size_ha: 0.8, plot_soil: 'sandy', plot_sown: false })
     expect(plots[0]!.row).toMatch(/^[0-9a-f-]{36}$/)
+    // The synced visit opens as a record to read, its plot included.
+    const row = page.getByTestId('local-visit').filter({ hasText: farmCode })
+    await poll(() => row.getAttribute('data-state'), 30_000).toBe('synced')
+    await row.getByRole('link').click()
+    await poll(() => page.getByTestId('read-only-plots').innerText()).toContain('Plots, row 1 — Plot size: 0.8 ha · Main soil of the plot: Sandy · Was the seed sown on this plot?: No')
     await context.close()
 
     // Review: the remaining plot as a table; a correction of its size, read back row by row.
@@ -171,6 +176,7 @@ describe('plots on a tablet with no network, then review', () => {
     await signIn(page, 'coordinator', `/models?round=${demoRound!.id}`)
     const panel = page.getByTestId('plot-model-panel')
     await poll(() => panel.count(), 20_000).toBe(1)
+    await panel.getByRole('button', { name: 'Build a model from Plots' }).click()
     await panel.getByLabel('Outcome of each row (a yes/no question)').selectOption({ label: 'Was the seed sown on this plot?' })
     await panel.getByLabel('Plot size').check()
     await panel.getByLabel('Main soil of the plot').check()
