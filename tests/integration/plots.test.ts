@@ -150,6 +150,16 @@ describe('plots through sync, review and export', () => {
   })
 })
 
+describe('the CSV import and plots', () => {
+  it('refuses, with a sentence saying why, to import into a round whose questionnaire requires plots', async () => {
+    const body = { csv: 'farm,village\nF-1,V\n', fileName: 'past.csv', mode: 'all-or-nothing', mapping: { farmCode: 'farm', villageCode: 'village', questions: {} } }
+    const preview = await coordinator.post<{ message: string }>(`/api/rounds/${round.roundId}/imports/preview`, body)
+    expect(preview.status).toBe(409)
+    expect(preview.body.message).toMatch(/at least 1 row of "Plots" per farm, and a CSV file \(one line per farm\) cannot hold them/)
+    expect((await coordinator.post(`/api/rounds/${round.roundId}/imports`, body)).status).toBe(409)
+  })
+})
+
 describe('models from the plots', () => {
   const N = 160
   let dir: string
