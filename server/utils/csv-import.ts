@@ -64,6 +64,10 @@ async function contextFor(user: SignedInUser, roundId: number): Promise<ImportCo
     throw createError({ statusCode: 409, message: 'Open the round before importing: opening freezes the questionnaire the rows are checked against.' })
   }
   const version = await QuestionnaireVersion.findByPk(round.currentVersionId!)
+  // One CSV line is one farm: it cannot hold a farm's several plots. A questionnaire that requires rows is refused
+  // plainly; one whose groups may stay empty imports its visits without rows.
+  const required = version!.definition.groups?.find(g => (g.minRows ?? 0) > 0)
+  if (required) throw createError({ statusCode: 409, message: `This questionnaire asks for at least ${required.minRows} ${required.minRows === 1 ? 'row' : 'rows'} of "${required.label}" per farm, and a CSV file (one line per farm) cannot hold them: import is not available for this round. Record these visits on a tablet instead.` })
   const links = await RoundVillage.findAll({ where: { roundId } })
   const villages = await Village.findAll({ where: { id: links.map(l => l.villageId), organisationId: user.organisationId }, order: [['code', 'ASC']] })
   if (!villages.length) throw createError({ statusCode: 409, message: 'This round has no villages yet. Add its villages before importing.' })

@@ -129,7 +129,7 @@ export async function reviewVisit(event: H3Event, user: SignedInUser, id: string
     else {
       const version = await QuestionnaireVersion.findByPk(visit.questionnaireVersionId, { transaction })
       const merged = { ...visit.answers, ...action.answers }
-      const parsed = answersSchemaFor(version!.definition.questions, version!.definition.checks).safeParse(merged)
+      const parsed = answersSchemaFor(version!.definition.questions, version!.definition.checks, version!.definition.groups).safeParse(merged)
       if (!parsed.success) {
         const fieldErrors = fieldErrorsOf(parsed.error)
         throw createError({ statusCode: 400, message: summaryOf(fieldErrors), data: { fieldErrors } })

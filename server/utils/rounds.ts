@@ -2,7 +2,7 @@ import type { H3Event } from 'h3'
 import { fn, col } from 'sequelize'
 import type { RoundDetail, RoundRow, VillageProgress, VillageRow } from '#shared/types/field'
 import type { AnswerCheck } from '#shared/utils/schemas/checks'
-import { OUTCOME_KEY, type Question, questionnaireDefinitionSchema, withOutcomeQuestion } from '#shared/utils/schemas/questionnaire'
+import { OUTCOME_KEY, type Question, type QuestionGroup, questionnaireDefinitionSchema, withOutcomeQuestion } from '#shared/utils/schemas/questionnaire'
 import type { RoundCreate, RoundPatch, VillageCreate } from '#shared/utils/schemas/round'
 import { Assignment, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../db/models'
 import { database } from '../db/connection'
@@ -81,6 +81,7 @@ export async function createRound(event: H3Event, user: SignedInUser, input: Rou
     let copied: Question[] = []
     let copiedChecks: AnswerCheck[] = []
     let copiedTexts: LanguageTexts = {}
+    let copiedGroups: QuestionGroup[] = []
     if (copyFromRoundId) {
       // A copy of the earlier round's current questionnaire; its adoption question is asked about the new technology.
       const source = await findRound(user.organisationId, copyFromRoundId)
@@ -89,9 +90,10 @@ export async function createRound(event: H3Event, user: SignedInUser, input: Rou
       copied = earlier.questions.filter(q => q.key !== OUTCOME_KEY)
       copiedChecks = earlier.checks ?? []
       copiedTexts = copiedLanguageTexts(earlier)
+      copiedGroups = earlier.groups ?? []
     }
     const round = await Round.create({ ...fields, organisationId: user.organisationId, status: 'draft', currentVersionId: null }, { transaction })
-    const definition = { questions: withOutcomeQuestion(copied, fields.technology), ...(copiedChecks.length ? { checks: copiedChecks } : {}), ...copiedTexts }
+    const definition = { questions: withOutcomeQuestion(copied, fields.technology), ...(copiedChecks.length ? { checks: copiedChecks } : {}), ...(copiedGroups.length ? { groups: copiedGroups } : {}), ...copiedTexts }
     const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition, frozenAt: null }, { transaction })
     await round.update({ currentVersionId: version.id }, { transaction })
     await audit(event, user, { action: 'round.create', entityType: 'round', entityId: round.id, details: { ...fields, ...(copyFromRoundId ? { copiedFromRoundId: copyFromRoundId } : {}) } }, transaction)
@@ -129,11 +131,11 @@ export async function updateRound(event: H3Event, user: SignedInUser, id: number
 }
 
 /** Draft: edits the one version in place. Open: saves a new frozen version. Closed: refused. */
-export async function saveQuestionnaire(event: H3Event, user: SignedInUser, id: number, questions: Question[], checks: AnswerCheck[] = [], texts: LanguageTexts = {}) {
+export async function saveQuestionnaire(event: H3Event, user: SignedInUser, id: number, questions: Question[], checks: AnswerCheck[] = [], groups: QuestionGroup[] = [], texts: LanguageTexts = {}) {
   return database().transaction(async (transaction) => {
     const round = await findRound(user.organisationId, id)
     if (round.status === 'closed') throw createError({ statusCode: 409, message: 'A closed round\'s questionnaire cannot change.' })
-    const parsed = questionnaireDefinitionSchema.safeParse({ questions: withOutcomeQuestion(questions, round.technology), ...(checks.length ? { checks } : {}), ...texts })
+    const parsed = questionnaireDefinitionSchema.safeParse({ questions: withOutcomeQuestion(questions, round.technology), ...(checks.length ? { checks } : {}), ...(groups.length ? { groups } : {}), ...texts })
     if (!parsed.success) throw createError({ statusCode: 400, message: summaryOf(fieldErrorsOf(parsed.error)), data: { fieldErrors: fieldErrorsOf(parsed.error) } })
     const current = await QuestionnaireVersion.findByPk(round.currentVersionId!, { transaction, lock: transaction.LOCK.UPDATE })
     let version = current!

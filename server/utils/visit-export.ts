@@ -117,9 +117,10 @@ export async function dataDictionaryCsv(currentVersionId: number | null, mode: E
 
 /** The round's export in one zip: the visits, the dictionary of their columns, and a read-me with the cautions. */
 export async function roundExportZip(round: { id: number, name: string, currentVersionId: number | null }, organisationId: number, mode: ExportMode = PSEUDONYMISED): Promise<Uint8Array> {
-  const [visits, dictionary] = await Promise.all([
+  const [visits, dictionary, groupFiles] = await Promise.all([
     acceptedVisitsCsv(round.id, organisationId, round.currentVersionId, mode),
-    dataDictionaryCsv(round.currentVersionId, mode)
+    dataDictionaryCsv(round.currentVersionId, mode),
+    groupExportFiles(round.id, organisationId, round.currentVersionId, mode)
   ])
   const readme = [
     `Furrowcast: accepted visits of the round "${round.name}"`,
@@ -135,9 +136,10 @@ export async function roundExportZip(round: { id: number, name: string, currentV
     '  per option (question.option), and a question asked only under a condition has a column question.asked (1 asked,',
     '  0 not asked): an empty answer with asked = 0 was not asked, with asked = 1 it was asked and left unanswered.',
     '- dictionary.csv: what each column of visits.csv means, its type, unit and allowed answers.',
+    ...Object.keys(groupFiles).filter(f => !f.endsWith('-dictionary.csv')).map(f => `- ${f}: one row per ${f.slice(0, -4)} row of each visit, joined to visits.csv by visit_id (row_id, row_number); ${f.slice(0, -4)}-dictionary.csv says what its columns mean.`),
     ''
   ].join('\n')
-  return zipFiles({ 'README.txt': readme, 'visits.csv': visits, 'dictionary.csv': dictionary })
+  return zipFiles({ 'README.txt': readme, 'visits.csv': visits, 'dictionary.csv': dictionary, ...groupFiles })
 }
 
 async function currentQuestions(versionId: number | null): Promise<Question[]> {

@@ -42,6 +42,7 @@ const ROUTES: Array<{ method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE', path:
   { method: 'GET', path: '/api/models?roundId=:round', roles: ['coordinator'] },
   { method: 'POST', path: '/api/models', roles: ['coordinator'], ok: 400 },
   { method: 'POST', path: '/api/models/preview', roles: ['coordinator'], ok: 400 },
+  { method: 'POST', path: '/api/models/plots', roles: ['coordinator'], ok: 400 },
   { method: 'GET', path: '/api/models/questions?roundId=:round', roles: ['coordinator'] },
   { method: 'GET', path: '/api/models/compare?ids=999998,999999', roles: ['coordinator'], ok: 404 },
   { method: 'GET', path: '/api/models/999999', roles: ['coordinator'], ok: 404 },

@@ -301,9 +301,12 @@ describe('round exports for coordinators', () => {
 
     const zip = await fetch(`${baseUrl()}/api/rounds/${roundId}/export?part=all`, { headers: { 'cookie': coordinator.cookieHeader(), 'x-forwarded-for': '10.9.9.9' } })
     const files = unzipSync(new Uint8Array(await zip.arrayBuffer()))
-    expect(Object.keys(files).sort()).toEqual(['README.txt', 'dictionary.csv', 'visits.csv'])
+    // The demo questionnaire's plots come as a second table with its own dictionary.
+    expect(Object.keys(files).sort()).toEqual(['README.txt', 'dictionary.csv', 'plots-dictionary.csv', 'plots.csv', 'visits.csv'])
     expect(strFromU8(files['README.txt']!)).toMatch(/protected under the local data-protection law/)
+    expect(strFromU8(files['README.txt']!)).toMatch(/plots\.csv: one row per plots row of each visit, joined to visits\.csv by visit_id/)
     expect(strFromU8(files['visits.csv']!)).toBe(String(visits.body))
+    expect(strFromU8(files['plots.csv']!)).toBe(String((await coordinator.request('GET', `/api/rounds/${roundId}/export?part=rows&group=plots`)).body))
   })
 
   it('refuses the exports to funders and enumerators, and answers 404 for an unknown round', async () => {

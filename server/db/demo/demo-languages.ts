@@ -1,6 +1,6 @@
 import type { AnswerCheck } from '../../../shared/utils/schemas/checks'
 import type { Language, Translations } from '../../../shared/utils/schemas/languages'
-import type { Question } from '../../../shared/utils/schemas/questionnaire'
+import type { Question, QuestionGroup } from '../../../shared/utils/schemas/questionnaire'
 
 // The demo round is asked in English (the main language) and in Kiswahili. The Kiswahili texts follow the usage of
 // East African agricultural extension (afisa ugani, pembejeo, kaya); before a real survey, have a native speaker check
@@ -43,7 +43,16 @@ const SW: Translations[string] = {
       dealer: 'Muuzaji wa pembejeo',
       field_day: 'Siku ya maonyesho shambani'
     }
-  }
+  },
+  // The plots group (plots-demo.ts) and its questions.
+  plots: { label: 'Vipande vya shamba', help: 'Safu moja kwa kila kipande cha shamba ambacho kaya inalima msimu huu.' },
+  plot_size_ha: { label: 'Ukubwa wa kipande', unit: 'hekta' },
+  plot_soil: {
+    label: 'Aina kuu ya udongo wa kipande',
+    options: { sandy: 'Udongo wa kichanga', loam: 'Udongo tifutifu', clay: 'Udongo wa mfinyanzi' }
+  },
+  plot_sown: { label: 'Je, mbegu zilipandwa kwenye kipande hiki?' },
+  plot_seed_kg: { label: 'Mbegu zilizopandwa kwenye kipande hiki', unit: 'kg' }
 }
 
 const SW_CHECK_MESSAGES: Record<string, string> = {
@@ -51,7 +60,7 @@ const SW_CHECK_MESSAGES: Record<string, string> = {
 }
 
 /** The demo definition with its second language: the languages, the Kiswahili texts and each check's message. */
-export function withDemoLanguages(definition: { questions: Question[], checks: AnswerCheck[] }) {
+export function withDemoLanguages(definition: { questions: Question[], checks: AnswerCheck[], groups?: QuestionGroup[] }) {
   return {
     ...definition,
     checks: definition.checks.map(c => SW_CHECK_MESSAGES[c.question] ? { ...c, messages: { sw: SW_CHECK_MESSAGES[c.question]! } } : c),

@@ -4,6 +4,7 @@ import { Assignment, Organisation, QuestionnaireVersion, Round, RoundVillage, Us
 import { notAskedKeys } from '../../../shared/utils/schemas/visit'
 import { DEMO_TECHNOLOGY, demoChecks, generateDemo } from './field-demo'
 import { withDemoLanguages } from './demo-languages'
+import { demoPlotsGroup, withDemoPlots } from './plots-demo'
 import { registerDemoFarms, seedEarlierDemoRound } from './second-round'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
@@ -18,7 +19,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
   if (!organisation || await Round.count({ where: { organisationId: organisation.id } }) > 0) return false
   const enumerator = await User.findOne({ where: { organisationId: organisation.id, role: 'enumerator' }, order: [['id', 'ASC']] })
   if (!enumerator) return false
-  const { villages, questions, visits } = generateDemo()
+  const { villages, questions, visits } = withDemoPlots(generateDemo())
   await sequelize.transaction(async (transaction) => {
     await Village.bulkCreate(villages.map(v => ({
       organisationId: organisation.id,
@@ -41,7 +42,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       status: 'open',
       currentVersionId: null
     }, { transaction })
-    const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition: withDemoLanguages({ questions, checks: demoChecks() }), frozenAt: new Date() }, { transaction })
+    const version = await QuestionnaireVersion.create({ roundId: round.id, number: 1, definition: withDemoLanguages({ questions, checks: demoChecks(), groups: [demoPlotsGroup()] }), frozenAt: new Date() }, { transaction })
     await round.update({ currentVersionId: version.id }, { transaction })
     await RoundVillage.bulkCreate(villageRows.map(v => ({ roundId: round.id, villageId: v.id })), { transaction })
     await Assignment.bulkCreate(DEMO_ASSIGNED_VILLAGES.map(i => ({ roundId: round.id, villageId: villageRows[i]!.id, userId: enumerator.id })), { transaction })

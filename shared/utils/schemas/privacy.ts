@@ -48,7 +48,9 @@ export const COORDINATE_PRECISION_LABELS: Record<typeof COORDINATE_PRECISIONS[nu
 }
 
 export const visitExportQuerySchema = z.object({
-  part: z.enum(['all', 'visits', 'dictionary']).default('all'),
+  part: z.enum(['all', 'visits', 'dictionary', 'rows']).default('all'),
+  /** With part=rows: the repeated group (e.g. plots) whose rows to export, one line per row. */
+  group: z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Name a group of the questionnaire').optional(),
   /** Real farm codes and full positions: only with a stated reason, and audited. */
   identifying: z.enum(['0', '1']).default('0'),
   reason: safeText(z.string().trim().max(500), { multiline: true }).optional(),
@@ -57,5 +59,6 @@ export const visitExportQuerySchema = z.object({
   if (q.identifying === '1' && (q.reason ?? '').length < 10) {
     ctx.addIssue({ code: 'custom', path: ['reason'], message: 'Say why you need farm codes and exact positions (at least 10 characters)' })
   }
+  if (q.part === 'rows' && !q.group) ctx.addIssue({ code: 'custom', path: ['group'], message: 'Name the group whose rows to export' })
 })
 export type VisitExportQuery = z.infer<typeof visitExportQuerySchema>

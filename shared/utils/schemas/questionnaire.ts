@@ -5,6 +5,7 @@ import { answerCheckSchema } from './checks'
 import { conditionSchema } from './conditions'
 import { languagesSchema, translationsSchema } from './languages'
 import { translationProblems } from '../translation'
+import { groupDefinitionProblems, groupSchemaOf } from './groups'
 import { isReservedKey, safeText } from './safe-text'
 
 // A questionnaire is a list of typed questions; one version of it yields one zod schema for a visit,
@@ -82,7 +83,9 @@ export const questionnaireDefinitionSchema = z.object({
   /** The languages it is asked in, the main one first (absent: one language, the questions' own texts). */
   languages: languagesSchema.optional(),
   /** Texts of the other languages per question key (shared/utils/translation.ts). */
-  translations: translationsSchema.optional()
+  translations: translationsSchema.optional(),
+  /** Repeated groups (e.g. plots), answered once per row (absent in versions saved before groups existed). */
+  groups: z.array(groupSchemaOf(questionSchema)).max(10, 'At most 10 groups').optional()
 }).superRefine((d, ctx) => {
   const seen = new Set<string>()
   d.questions.forEach((q, i) => {
@@ -97,6 +100,7 @@ export const questionnaireDefinitionSchema = z.object({
   for (const p of conditionProblems(d.questions)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   for (const p of checkDefinitionProblems(d.questions, d.checks)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   for (const p of translationProblems(d)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
+  for (const p of groupDefinitionProblems(d.questions, d.groups, OUTCOME_KEY)) ctx.addIssue({ code: 'custom', path: p.path, message: p.message })
   // Exports add derived columns (key.option, key.asked): two of them with the same name would be ambiguous.
   const columns = new Map<string, string>()
   d.questions.forEach((q, i) => {
@@ -108,6 +112,7 @@ export const questionnaireDefinitionSchema = z.object({
   })
 })
 export type QuestionnaireDefinition = z.infer<typeof questionnaireDefinitionSchema>
+export type QuestionGroup = NonNullable<QuestionnaireDefinition['groups']>[number]
 
 /**
  * The columns a question gets in the visits export: its key (one 0/1 column per option instead for a several-answer

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { answerCheckSchema } from './checks'
+import { groupSchemaOf } from './groups'
 import { languagesSchema, translationsSchema } from './languages'
 import { questionSchema } from './questionnaire'
 import { safeText } from './safe-text'
@@ -24,6 +25,7 @@ export type RoundPatch = z.infer<typeof roundPatchSchema>
 export const questionnaireSaveSchema = z.object({
   questions: z.array(questionSchema).min(1).max(200),
   checks: z.array(answerCheckSchema).max(50).default([]),
+  groups: z.array(groupSchemaOf(questionSchema)).max(10).default([]),
   languages: languagesSchema.optional(),
   translations: translationsSchema.optional()
 })

@@ -2,7 +2,8 @@ import { z } from 'zod'
 import { failedChecks } from '../answer-checks'
 import { askedQuestions, conditionText, isNoAnswer } from '../asking'
 import type { AnswerCheck } from './checks'
-import { OUTCOME_KEY, type Question, type QuestionnaireVersionDto } from './questionnaire'
+import { rowIssues, rowsSchemaOf } from './group-rows'
+import { OUTCOME_KEY, type Question, type QuestionGroup, type QuestionnaireVersionDto } from './questionnaire'
 import { ownValue, safeText } from './safe-text'
 
 // One schema per questionnaire version: what a visit must look like, on the tablet before saving and on the
@@ -65,7 +66,7 @@ const REQUIRED = 'This answer is required'
  * Questions with a condition are checked after the shape, with the shared evaluator: a question the condition hides
  * must have no answer (it is "not asked"), and "required" applies only when it is asked.
  */
-export function answersSchemaFor(questions: readonly Question[], checks: readonly AnswerCheck[] = []) {
+export function answersSchemaFor(questions: readonly Question[], checks: readonly AnswerCheck[] = [], groups: readonly QuestionGroup[] = []) {
   const shape: Record<string, z.ZodType> = {}
   for (const q of questions) {
     const s = answerSchema(q)
@@ -73,8 +74,10 @@ export function answersSchemaFor(questions: readonly Question[], checks: readonl
       ? z.unknown().refine(v => !isNoAnswer(v), REQUIRED).pipe(s)
       : s.nullable().optional()
   }
+  // A repeated group's rows, each row checked question by question (group-rows.ts).
+  for (const g of groups) shape[g.key] = rowsSchemaOf(g, answerSchema)
   const object = z.strictObject(shape, { error: issue => issue.code === 'unrecognized_keys' ? `Not a question of this questionnaire: ${issue.keys.join(', ')}` : 'Answers must be an object' })
-  if (!questions.some(q => q.askWhen) && !checks.length) return object
+  if (!questions.some(q => q.askWhen) && !checks.length && !groups.some(g => g.questions.some(q => q.askWhen))) return object
   // Runs even when another answer has the wrong type, so every hidden answer is named at once.
   return object.check(z.superRefine((answers: Record<string, unknown>, ctx) => {
     if (!answers || typeof answers !== 'object' || Array.isArray(answers)) return
@@ -89,6 +92,7 @@ export function answersSchemaFor(questions: readonly Question[], checks: readonl
     }
     // The coordinator's checks across answers, with their own messages, under the answer checked.
     for (const f of failedChecks(questions, checks, answers)) ctx.addIssue({ code: 'custom', path: [f.question], message: f.message })
+    for (const issue of rowIssues(questions, groups, answers)) ctx.addIssue({ code: 'custom', ...issue })
   }, { when: () => true }))
 }
 
@@ -115,7 +119,7 @@ function buildVisitSchema(version: QuestionnaireVersionDto) {
     questionnaireVersionId: z.literal(version.id, { error: 'Answered with another questionnaire version' }),
     farmCode: farmCodeSchema,
     location: locationSchema,
-    answers: answersSchemaFor(version.definition.questions, version.definition.checks),
+    answers: answersSchemaFor(version.definition.questions, version.definition.checks, version.definition.groups),
     consent: z.literal(true, { error: 'The farmer\'s informed consent is required' }),
     consentAt: isoInstant,
     startedAt: isoInstant,

@@ -19,6 +19,13 @@ export default defineRoleHandler(['coordinator'], async (event, user) => {
     setResponseHeader(event, 'content-disposition', `attachment; filename="${name}.zip"`)
     return Buffer.from(await roundExportZip(round, user.organisationId, mode))
   }
+  if (query.part === 'rows') {
+    const rows = await groupRowsCsv(round.id, user.organisationId, round.currentVersionId, query.group!, mode)
+    if (rows === null) throw createError({ statusCode: 404, message: 'The round\'s questionnaire has no group with this name.' })
+    setResponseHeader(event, 'content-type', 'text/csv; charset=utf-8')
+    setResponseHeader(event, 'content-disposition', `attachment; filename="${name}-${query.group}.csv"`)
+    return rows
+  }
   setResponseHeader(event, 'content-type', 'text/csv; charset=utf-8')
   setResponseHeader(event, 'content-disposition', `attachment; filename="${name}-${query.part}.csv"`)
   return query.part === 'dictionary'
