@@ -3,8 +3,10 @@ import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Assignment, QuestionnaireVersion, Round, User, Village, Visit } from '../../server/db/models'
 import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
-import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { openFieldStore } from '../support/field-pin'
+import { signInPage } from '../support/pages'
+import { baseUrl, demoUser, freshClient } from '../support/server'
 
 // The demo questionnaire's plots on a tablet with no network: two plots added, a row's missing answer named for that
 // row and field, one plot removed, the visit saved and synced once back online; review shows the remaining plot and a
@@ -28,12 +30,9 @@ const NUMBERS: Record<string, string> = { farm_size_ha: '2.0', household_size: '
 const YESNO: Record<string, boolean> = { adopted: true, female_head: false, extension_contact: false, credit_access: false, group_member: true, owns_phone: true }
 
 async function signIn(page: Page, role: string, next: string) {
-  await page.goto(`/signin?next=${encodeURIComponent(next)}`)
-  await waitForApp(page)
-  await page.getByLabel('E-mail').fill(demoUser(role).email)
-  await page.getByLabel('Password').fill(DEMO.password)
-  await page.getByRole('button', { name: 'Sign in' }).click()
-  await page.waitForURL(url => url.pathname === next.split('?')[0])
+  await signInPage(page, demoUser(role).email, next)
+  // The tablet's store is encrypted: opened with the PIN wherever the field app was just opened.
+  if (next.startsWith('/field')) await openFieldStore(page)
 }
 
 describe('plots on a tablet with no network, then review', () => {
@@ -51,6 +50,7 @@ describe('plots on a tablet with no network, then review', () => {
 
     await context.setOffline(true)
     await page.reload()
+    await openFieldStore(page)
     await poll(() => page.getByRole('heading', { level: 1 }).textContent()).toBe('Field work')
     const farmCode = `PLOT-${Date.now().toString(36).toUpperCase()}`
     await page.getByRole('link', { name: 'New visit' }).first().click()
