@@ -3,6 +3,8 @@ import { QueryTypes } from 'sequelize'
 import { conditionText } from '#shared/utils/asking'
 import { type AskingCounts, NOT_ASKED_LEVEL, type ModelQuestion } from '#shared/utils/modelling/questions'
 import { VILLAGE_COLUMN } from '#shared/utils/modelling/spec-builder'
+import { SAMPLE_LIST_WEIGHTS } from '#shared/utils/modelling/request'
+import { sampleWeightsOf } from './sample-lists'
 import type { CodedColumn, DataColumns, ModelSpec } from '#shared/utils/stats'
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
 import { database } from '../db/connection'
@@ -152,6 +154,10 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     if (c?.notAsked !== 'zero') return null
     return numeric[keys.indexOf(k)] ? '0' : c.type === 'yesno' ? 'false' : NOT_ASKED_LEVEL
   })
+  // Weights from the sample lists: one weight per village, given to the visits whose farm code is on the village's
+  // list (main sample or replacement: a replacement stands for the farm it replaces). Other visits have none.
+  const sampleAt = keys.indexOf(SAMPLE_LIST_WEIGHTS)
+  const sampleWeights = sampleAt >= 0 ? (await sampleWeightsOf(organisationId, roundId)).byVillage : null
   const manager = database().connectionManager as unknown as PoolManager
   const conn = await manager.getConnection({ type: 'read' })
   let adopted = new Float64Array(0)
@@ -189,6 +195,10 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     const selects: string[] = []
     const selectParams: unknown[] = []
     for (const k of keys) {
+      if (k === SAMPLE_LIST_WEIGHTS) {
+        selects.push('EXISTS (SELECT 1 FROM sample_farms sf WHERE sf.round_id = v.round_id AND sf.village_id = v.village_id AND sf.farm_code = v.farm_code)')
+        continue
+      }
       const [question, option] = k.split('.')
       const path = `$."${question}"`
       if (option === undefined) {
@@ -234,7 +244,9 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
       let used = true
       for (let j = 0; j < keys.length; j++) {
         const at = flagAt.get(j)
-        const v = at !== undefined && Number(row[at]) === 1 ? zeroFor[j]! : (row[4 + j] === null ? null : String(row[4 + j]))
+        const v = j === sampleAt
+          ? (Number(row[4 + j]) === 1 && sampleWeights!.has(Number(row[1])) ? String(sampleWeights!.get(Number(row[1]))) : null)
+          : at !== undefined && Number(row[at]) === 1 ? zeroFor[j]! : (row[4 + j] === null ? null : String(row[4 + j]))
         line += v === null ? '|\\N' : `|${v}`
         if (isMissingText(v)) {
           used = false

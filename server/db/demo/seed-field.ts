@@ -3,6 +3,7 @@ import demo from '../demo-people.json'
 import { Assignment, Organisation, QuestionnaireVersion, Round, RoundVillage, User, Village, Visit } from '../models'
 import { notAskedKeys } from '../../../shared/utils/schemas/visit'
 import { DEMO_TECHNOLOGY, demoChecks, generateDemo } from './field-demo'
+import { seedDemoSample } from './sample-demo'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
 export const DEMO_ASSIGNED_VILLAGES = [0, 3, 5, 8, 12, 17]
@@ -68,6 +69,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
       version: 2
     }))
     for (let i = 0; i < rows.length; i += 500) await Visit.bulkCreate(rows.slice(i, i + 500), { transaction })
+    await seedDemoSample({ organisationId: organisation.id, roundId: round.id, villages: villageRows, visitCodes: villageRows.map((_, g) => visits.filter(v => v.villageIndex === g).map(v => v.farmCode)), assigned: DEMO_ASSIGNED_VILLAGES }, transaction)
   })
   return true
 }

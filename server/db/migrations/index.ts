@@ -13,6 +13,7 @@ import * as m0070 from './0070-device-ids-per-enumerator'
 import * as m0110 from './0110-audit-search'
 import * as m0140 from './0140-visit-not-asked'
 import * as m0150 from './0150-personal-data'
+import * as m0230 from './0230-sample-lists'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
 // Add a new file as NNNN-what-it-does.ts and append it here.
@@ -31,5 +32,6 @@ export const MIGRATIONS = [
   { name: '0070-device-ids-per-enumerator', ...m0070 },
   { name: '0110-audit-search', ...m0110 },
   { name: '0140-visit-not-asked', ...m0140 },
-  { name: '0150-personal-data', ...m0150 }
+  { name: '0150-personal-data', ...m0150 },
+  { name: '0230-sample-lists', ...m0230 }
 ]
