@@ -230,4 +230,18 @@ describe('non-interviews, visits, response rates and weights', () => {
     const again = await coordinator.get<ModelRunDetail>(`/api/models/${run.id}`)
     expect(again.body.dataChanged).toBe(true)
   })
+
+  it('erases the head\'s name and hint with the farm at the farmer\'s request', async () => {
+    const before = await SampleFarm.findOne({ where: { roundId: round.roundId, farmCode: 'SA-002' } })
+    expect(before!.headName).toBe('Head 1 Amaro')
+    const erased = await coordinator.post<{ opaqueId?: string }>('/api/privacy/erasures', { farmCode: 'SA-002', reason: 'The farmer withdrew consent at the meeting' })
+    expect(erased.status, JSON.stringify(erased.body)).toBe(200)
+    expect(await SampleFarm.count({ where: { farmCode: 'SA-002' } })).toBe(0)
+    const row = (await SampleFarm.findByPk(before!.id))!
+    expect(row).toMatchObject({ headName: null, hint: null, lat: null, lon: null })
+    expect(row.namesPurgedAt).not.toBeNull()
+    expect(row.farmCode).toMatch(/^E-/)
+    const sample = await coordinator.get<RoundSample>(`/api/rounds/${round.roundId}/sample`)
+    expect(JSON.stringify(sample.body)).not.toContain('Head 1 Amaro')
+  })
 })
