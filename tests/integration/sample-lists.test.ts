@@ -194,9 +194,11 @@ describe('non-interviews, visits, response rates and weights', () => {
   })
 
   it('matches R survey::svyglm with the same weights and villages as PSUs', async () => {
+    // The export is read before R starts: R's start-up can outlast the server's keep-alive, and a request on the
+    // closed connection would fail for reasons of its own.
+    const csv = await coordinator.get<string>(`/api/rounds/${round.roundId}/export?part=visits&identifying=1&reason=${encodeURIComponent('checking against svyglm')}`)
     const probe = spawnSync('Rscript', ['-e', 'suppressPackageStartupMessages({library(survey); library(jsonlite)})'], { encoding: 'utf8' })
     expect(probe.status, `R with survey and jsonlite is needed: ${probe.stderr}`).toBe(0)
-    const csv = await coordinator.get<string>(`/api/rounds/${round.roundId}/export?part=visits&identifying=1&reason=${encodeURIComponent('checking against svyglm')}`)
     const table = tableOf(csv.body)
     const col = (name: string) => table.header.indexOf(name)
     const rows = table.rows.filter(r => r[col('sampling_weight')] !== '')
