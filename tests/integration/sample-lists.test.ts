@@ -183,6 +183,7 @@ describe('non-interviews, visits, response rates and weights', () => {
   })
 
   let run: ModelRunDetail
+  let fittedExport: { body: string, status: number }
   it('gives the model run the hand-computed weights', async () => {
     run = await fitAndWait(coordinator, { roundId: round.roundId, covariates: [{ key: 'farm_size_ha' }, { key: 'household_size' }], link: 'logit', villages: 'survey', weights: 'sample-lists' })
     expect(run.status, JSON.stringify(run.error)).toBe('done')
@@ -191,35 +192,8 @@ describe('non-interviews, visits, response rates and weights', () => {
     expect(results.rows).toMatchObject({ totalRows: 30, used: 29, dropped: 1 })
     expect(results.rows.byVariable).toEqual([{ variable: 'sample-lists', label: 'sampling weight (farm not on a sample list)', count: 1 }])
     expect(results.fit.weightSum).toBeCloseTo(19 * WEIGHT_A + 10 * WEIGHT_B, 9)
-  })
-
-  it('matches R survey::svyglm with the same weights and villages as PSUs', async () => {
-    // The export is read before R starts: R's start-up can outlast the server's keep-alive, and a request on the
-    // closed connection would fail for reasons of its own.
-    const csv = await coordinator.get<string>(`/api/rounds/${round.roundId}/export?part=visits&identifying=1&reason=${encodeURIComponent('checking against svyglm')}`)
-    const probe = spawnSync('Rscript', ['-e', 'suppressPackageStartupMessages({library(survey); library(jsonlite)})'], { encoding: 'utf8' })
-    expect(probe.status, `R with survey and jsonlite is needed: ${probe.stderr}`).toBe(0)
-    const table = tableOf(csv.body)
-    const col = (name: string) => table.header.indexOf(name)
-    const rows = table.rows.filter(r => r[col('sampling_weight')] !== '')
-    const X = rows.flatMap(r => [1, Number(r[col('farm_size_ha')]), Number(r[col('household_size')])])
-    const dir = mkdtempSync(join(tmpdir(), 'svyglm-sample-'))
-    writeFileSync(join(dir, 'in.json'), JSON.stringify([{
-      id: 'sample-lists', link: 'logit', k: 3, X,
-      y: rows.map(r => (r[col('adopted')] === 'yes' ? 1 : 0)),
-      w: rows.map(r => Number(r[col('sampling_weight')])),
-      psu: rows.map(r => r[col('village_code')]), strata: null, fpc: null
-    }]))
-    const script = fileURLToPath(new URL('../reference/svyglm_ref.R', import.meta.url))
-    const r = spawnSync('Rscript', [script, join(dir, 'in.json'), join(dir, 'out.json')], { encoding: 'utf8' })
-    expect(r.status, r.stderr).toBe(0)
-    const [ref] = JSON.parse(readFileSync(join(dir, 'out.json'), 'utf8')) as Array<{ coef: number[], se: number[], df: number }>
-    const ours = run.results!.coefficients
-    expect(ours).toHaveLength(3)
-    ours.forEach((c, j) => {
-      expect(Math.abs(c.estimate - ref!.coef[j]!) / Math.max(1e-8, Math.abs(ref!.coef[j]!))).toBeLessThan(1e-6)
-      expect(Math.abs(c.se! - ref!.se[j]!) / ref!.se[j]!).toBeLessThan(1e-5)
-    })
+    fittedExport = await coordinator.get<string>(`/api/rounds/${round.roundId}/export?part=visits&identifying=1&reason=${encodeURIComponent('checking against svyglm')}`)
+    expect(fittedExport.status).toBe(200)
   })
 
   it('refuses a fit by the lists while a village\'s weight can\'t be computed', async () => {
@@ -245,5 +219,47 @@ describe('non-interviews, visits, response rates and weights', () => {
     expect(row.farmCode).toMatch(/^E-/)
     const sample = await coordinator.get<RoundSample>(`/api/rounds/${round.roundId}/sample`)
     expect(JSON.stringify(sample.body)).not.toContain('Head 1 Amaro')
+  })
+
+  it('erases a listed farm that was never visited (a refusal): its name and hint go too', async () => {
+    const footprint = await coordinator.get<{ visits: number, listed: number }>('/api/privacy/farm?code=SA-020')
+    expect(footprint.status).toBe(200)
+    expect(footprint.body.visits).toBe(0)
+    expect(footprint.body.listed).toBeGreaterThanOrEqual(1)
+    const row = (await SampleFarm.findOne({ where: { roundId: round.roundId, farmCode: 'SA-020' } }))!
+    expect(row.headName).toBe('Head 19 Amaro')
+    const erased = await coordinator.post('/api/privacy/erasures', { farmCode: 'SA-020', reason: 'Asked through the village chair to be removed' })
+    expect(erased.status, JSON.stringify(erased.body)).toBe(200)
+    expect(await SampleFarm.findByPk(row.id)).toMatchObject({ headName: null, hint: null, outcomeNote: null, outcome: 'refused' })
+    expect((await coordinator.post('/api/privacy/erasures', { farmCode: 'SA-020', reason: 'Asked through the village chair to be removed' })).status).toBe(404)
+  })
+
+  it('matches R survey::svyglm with the same weights and villages as PSUs', async () => {
+    // Last in the file, on the export read right after the fit: R's start-up outlasts the server's keep-alive, and
+    // a request on the closed connection would fail for reasons of its own.
+    const csv = fittedExport
+    const probe = spawnSync('Rscript', ['-e', 'suppressPackageStartupMessages({library(survey); library(jsonlite)})'], { encoding: 'utf8' })
+    expect(probe.status, `R with survey and jsonlite is needed: ${probe.stderr}`).toBe(0)
+    const table = tableOf(csv.body)
+    const col = (name: string) => table.header.indexOf(name)
+    const rows = table.rows.filter(r => r[col('sampling_weight')] !== '')
+    const X = rows.flatMap(r => [1, Number(r[col('farm_size_ha')]), Number(r[col('household_size')])])
+    const dir = mkdtempSync(join(tmpdir(), 'svyglm-sample-'))
+    writeFileSync(join(dir, 'in.json'), JSON.stringify([{
+      id: 'sample-lists', link: 'logit', k: 3, X,
+      y: rows.map(r => (r[col('adopted')] === 'yes' ? 1 : 0)),
+      w: rows.map(r => Number(r[col('sampling_weight')])),
+      psu: rows.map(r => r[col('village_code')]), strata: null, fpc: null
+    }]))
+    const script = fileURLToPath(new URL('../reference/svyglm_ref.R', import.meta.url))
+    const r = spawnSync('Rscript', [script, join(dir, 'in.json'), join(dir, 'out.json')], { encoding: 'utf8' })
+    expect(r.status, r.stderr).toBe(0)
+    const [ref] = JSON.parse(readFileSync(join(dir, 'out.json'), 'utf8')) as Array<{ coef: number[], se: number[], df: number }>
+    const ours = run.results!.coefficients
+    expect(ours).toHaveLength(3)
+    ours.forEach((c, j) => {
+      expect(Math.abs(c.estimate - ref!.coef[j]!) / Math.max(1e-8, Math.abs(ref!.coef[j]!))).toBeLessThan(1e-6)
+      expect(Math.abs(c.se! - ref!.se[j]!) / ref!.se[j]!).toBeLessThan(1e-5)
+    })
   })
 })
