@@ -117,7 +117,7 @@ describe('the sample to visit on a tablet with no network, then review', () => {
     const count = (o: string) => String(mainFarms.filter(f => !seen.has(f.farmCode) && f.outcome === o).length)
     const replacements = String(listed.filter(f => f.sampleRank > 0 && seen.has(f.farmCode)).length)
     expect(Number(count('refused'))).toBeGreaterThanOrEqual(1)
-    await poll(async () => (await cells()).slice(4, 11)).toEqual([String(main), String(interviewed), count('refused'), count('absent'), count('moved'), replacements, `${Math.round(interviewed / main * 100)} %`])
+    await poll(async () => (await cells()).slice(4, 11)).toEqual([String(main), String(interviewed), `${Math.round(interviewed / main * 100)} %`, count('refused'), count('absent'), count('moved'), replacements])
     // The village's weight on screen: N_v / (P_v · n_v), worked out here from the stored facts.
     const facts = (await SampleVillage.findOne({ where: { roundId, villageId: village.id } }))!
     expect((await cells())[3]).toBe((facts.listedFarms! / (facts.selectionProbability! * main)).toFixed(2))
