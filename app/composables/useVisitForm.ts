@@ -49,7 +49,8 @@ export function useVisitForm() {
       version.value = setup?.questionnaires.find(q => q.id === round.currentVersionId) ?? null
       visit.value = {
         id: crypto.randomUUID(), roundId: round.id, villageId: round.villageIds.includes(village) ? village : null, questionnaireVersionId: round.currentVersionId,
-        farmCode: '', location: null, answers: {}, consent: false, consentAt: null, startedAt: now, savedAt: null, baseVersion: 0,
+        // Started from the sample list ("Start visit" on a listed farm): its code is filled in.
+        farmCode: typeof route.query.farm === 'string' ? route.query.farm.slice(0, 40) : '', location: null, answers: {}, consent: false, consentAt: null, startedAt: now, savedAt: null, baseVersion: 0,
         state: 'draft', reviewState: null, reviewReason: null, errors: null, serverCopy: null, updatedAt: now, syncedAt: null
       }
       if (!version.value) notFound.value = true

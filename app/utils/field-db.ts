@@ -49,8 +49,9 @@ export interface LocalPhoto {
 }
 
 export interface CacheEntry {
-  /** `model:<roundId>`: the round's published model for the planning aid, when switched on. */
-  key: 'setup' | 'lastSyncAt' | 'statesSince' | `model:${number}`
+  /** `model:<roundId>`: the round's published model for the planning aid, when switched on. `sampleOutcomes`: the
+   * non-interviews recorded on this tablet for listed farms, until the server has them (app/utils/sample-sync.ts). */
+  key: 'setup' | 'lastSyncAt' | 'statesSince' | 'sampleOutcomes' | `model:${number}`
   value: unknown
 }
 

@@ -1,6 +1,7 @@
 import type { FieldSetup, VisitStates } from '#shared/types/field'
 import type { SyncAnswer } from '#shared/utils/schemas/visit'
 import type { FieldDatabase, LocalVisit } from './field-db'
+import { pushSampleOutcomes } from './sample-sync'
 
 // One sync pass: fetch the round definitions, send queued visits in batches, upload photos of synced visits,
 // then read back review states (sent back, accepted). A visit leaves the queue only on the server's word.
@@ -192,6 +193,8 @@ async function pullStates(db: FieldDatabase, summary: SyncSummary) {
 export async function syncOnce(db: FieldDatabase, progress: (p: SyncProgress) => void = () => {}): Promise<SyncSummary> {
   const summary: SyncSummary = { sent: 0, stored: 0, conflicts: 0, rejected: 0, photos: 0, erased: 0 }
   progress({ phase: 'setup', done: 0, total: 1 })
+  // Non-interviews of listed farms first, so the setup read next already shows them as the server holds them.
+  await pushSampleOutcomes(db, call)
   await refreshSetup(db)
   await pushVisits(db, summary, progress)
   await pushPhotos(db, summary, progress)

@@ -27,6 +27,13 @@ async function visitsOfFarm(organisationId: number, farmCode: string, transactio
   { replacements: [organisationId, farmCode.trim()], type: QueryTypes.SELECT, transaction })
 }
 
+/** Rows of the farm on sample lists (a listed farm may have no visit: refused, nobody at home, not reached yet). */
+async function listedRowsOfFarm(organisationId: number, farmCode: string, transaction?: Transaction): Promise<number> {
+  const [row] = await database().query<{ n: number }>(`SELECT COUNT(*) AS n FROM sample_farms WHERE organisation_id = ? AND farm_code = ?${transaction ? ' FOR UPDATE' : ''}`,
+    { replacements: [organisationId, farmCode.trim()], type: QueryTypes.SELECT, transaction })
+  return Number(row?.n ?? 0)
+}
+
 /** Where a farm's data lives, shown before the coordinator confirms an erasure. */
 export async function farmFootprint(organisationId: number, farmCode: string): Promise<FarmFootprint> {
   const visits = await visitsOfFarm(organisationId, farmCode)
@@ -43,6 +50,7 @@ export async function farmFootprint(organisationId: number, farmCode: string): P
   return {
     farmCode: farmCode.trim(),
     visits: visits.length,
+    listed: await listedRowsOfFarm(organisationId, farmCode),
     photos: visits.reduce((n, v) => n + Number(v.photos), 0),
     tablets: new Set(visits.map(v => v.enumeratorId)).size,
     rounds: [...rounds.values()],
@@ -62,7 +70,7 @@ export async function eraseFarm(event: H3Event, user: SignedInUser, request: Era
   const keepAnswers = settingsOf(organisation).privacy.keepAnswersAfterErasure
   const farmCode = request.farmCode.trim()
   const before = await visitsOfFarm(user.organisationId, farmCode)
-  if (!before.length) throw createError({ statusCode: 404, message: `No visit of farm ${farmCode} is held: nothing to erase. (An erased farm is known only by its new id.)` })
+  if (!before.length && !await listedRowsOfFarm(user.organisationId, farmCode)) throw createError({ statusCode: 404, message: `No visit of farm ${farmCode} is held: nothing to erase. (An erased farm is known only by its new id.)` })
 
   // The files first: if anything fails after this, the rows are still there and the erasure can simply be repeated.
   const scope = { organisationId: user.organisationId, farmCode, visitIds: before.map(v => v.id) }
@@ -74,7 +82,7 @@ export async function eraseFarm(event: H3Event, user: SignedInUser, request: Era
   const leftover: string[] = []
   const result = await database().transaction({ isolationLevel: Transaction.ISOLATION_LEVELS.READ_COMMITTED }, async (transaction) => {
     const visits = await visitsOfFarm(user.organisationId, farmCode, transaction)
-    if (!visits.length) throw createError({ statusCode: 409, message: 'This farm was erased meanwhile.' })
+    if (!visits.length && !await listedRowsOfFarm(user.organisationId, farmCode, transaction)) throw createError({ statusCode: 409, message: 'This farm was erased meanwhile.' })
     const visitIds = visits.map(v => v.id)
     const photos = visits.reduce((n, v) => n + Number(v.photos), 0)
     const now = new Date()
@@ -83,7 +91,7 @@ export async function eraseFarm(event: H3Event, user: SignedInUser, request: Era
       replacements: [user.organisationId, farmKeyOf(user.organisationId, farmCode), id, visits.length, photos, keepAnswers, user.id, now],
       type: QueryTypes.INSERT, transaction
     }) as unknown as [number, number]
-    await database().query(`INSERT INTO erased_visits (visit_id, erasure_id, organisation_id, enumerator_id, device_key, erased_at) VALUES ${visits.map(() => '(?, ?, ?, ?, ?, ?)').join(', ')}
+    if (visits.length) await database().query(`INSERT INTO erased_visits (visit_id, erasure_id, organisation_id, enumerator_id, device_key, erased_at) VALUES ${visits.map(() => '(?, ?, ?, ?, ?, ?)').join(', ')}
       ON DUPLICATE KEY UPDATE erasure_id = VALUES(erasure_id), erased_at = VALUES(erased_at)`, {
       replacements: visits.flatMap(v => [v.id, erasureId, user.organisationId, v.enumeratorId, v.deviceKey, now]), type: QueryTypes.INSERT, transaction
     })
@@ -93,7 +101,7 @@ export async function eraseFarm(event: H3Event, user: SignedInUser, request: Era
       removed[source.label] = done.count
       for (const key of done.objectKeys ?? []) if (!keys.has(key)) leftover.push(key)
     }
-    if (!keepAnswers) {
+    if (!keepAnswers && visitIds.length) {
       // The organisation keeps nothing of an erased farm: its visits go entirely (photos' rows went above).
       await database().query('DELETE FROM visits WHERE id IN (?)', { replacements: [visitIds], type: QueryTypes.DELETE, transaction })
     }

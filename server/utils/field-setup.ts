@@ -5,6 +5,7 @@ import { Assignment, QuestionnaireVersion, Round, Village, Visit } from '../db/m
 import { erasedVisitIdsFor } from './erasure'
 import { serverCopyOf } from './field-sync'
 import { purgedVisitIdsFor } from './retention-tablets'
+import { sampleListsForEnumerator } from './sample-lists'
 
 interface Actor { id: number, organisationId: number }
 
@@ -34,6 +35,7 @@ export async function fieldSetupFor(actor: Actor): Promise<FieldSetup> {
     // The boundary travels with the setup so the position picker can draw the village with no network and no tiles.
     villages: villages.map(v => ({ id: v.id, code: v.code, name: v.name, district: v.district, centreLat: v.centreLat, centreLon: v.centreLon, boundary: (v.boundary as FieldVillage['boundary']) ?? null })),
     questionnaires: versions.map(v => ({ id: v.id, roundId: v.roundId, number: v.number, definition: questionnaireDefinitionSchema.parse(v.definition) })),
+    samples: await sampleListsForEnumerator(actor, mine),
     fetchedAt: new Date().toISOString()
   }
 }

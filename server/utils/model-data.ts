@@ -3,6 +3,8 @@ import { QueryTypes } from 'sequelize'
 import { conditionText } from '#shared/utils/asking'
 import { type AskingCounts, NOT_ASKED_LEVEL, type ModelQuestion } from '#shared/utils/modelling/questions'
 import { VILLAGE_COLUMN } from '#shared/utils/modelling/spec-builder'
+import { SAMPLE_LIST_WEIGHTS } from '#shared/utils/modelling/request'
+import { sampleWeightsOf } from './sample-lists'
 import type { CodedColumn, DataColumns, ModelSpec } from '#shared/utils/stats'
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
 import { database } from '../db/connection'
@@ -159,6 +161,10 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     if (c?.notAsked !== 'zero') return null
     return numeric[keys.indexOf(k)] ? '0' : c.type === 'yesno' ? 'false' : NOT_ASKED_LEVEL
   })
+  // Weights from the sample lists: one weight per village, given to the visits whose farm code is on the village's
+  // list (main sample or replacement: a replacement stands for the farm it replaces). Other visits have none.
+  const sampleAt = keys.indexOf(SAMPLE_LIST_WEIGHTS)
+  const sampleWeights = sampleAt >= 0 ? (await sampleWeightsOf(organisationId, roundId)).byVillage : null
   const manager = database().connectionManager as unknown as PoolManager
   const conn = await manager.getConnection({ type: 'read' })
   let adopted = new Float64Array(0)
@@ -201,9 +207,10 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     // Answers are read from the stored JSON text by one scan per row (answer-scan.ts: several times faster than one
     // JSON_VALUE per answer in the query). A key question.option (an option of a several-answer question) reads the
     // question's list: 1 ticked, 0 not ticked, nothing when the question holds no list (unanswered or not asked).
-    const questionKeys = [...new Set(keys.map(k => k.split('.')[0]!))]
+    // The sample lists' weight is not an answer: it comes from whether the farm is on its village's list (below).
+    const questionKeys = [...new Set(keys.filter(k => k !== SAMPLE_LIST_WEIGHTS).map(k => k.split('.')[0]!))]
     const wanted = new Map(questionKeys.map((q, i) => [q, i]))
-    const slotOf = keys.map(k => wanted.get(k.split('.')[0]!)!)
+    const slotOf = keys.map(k => wanted.get(k.split('.')[0]!) ?? -1)
     const optionOf = keys.map(k => k.split('.')[1])
     const scanned: ScannedValue[] = Array.from({ length: questionKeys.length }, () => null)
     const flagged = keys.some((_, j) => zeroFor[j] !== null)
@@ -213,7 +220,9 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     // the connection's socket timeout.
     // Several rounds: rounds one after the other, each in id order (the same index serves it), and of a farm's
     // accepted visits in one round only the latest saved (panel-export.ts).
-    const sql = `SELECT v.id, v.village_id, v.adopted, v.questionnaire_version_id${panel ? ', v.round_id, v.farm_id' : ''}, v.answers${flagged ? ', v.not_asked' : ''}
+    const listedAt = base + (flagged ? 2 : 1)
+    const listed = sampleAt >= 0 ? ', EXISTS (SELECT 1 FROM sample_farms sf WHERE sf.round_id = v.round_id AND sf.village_id = v.village_id AND sf.farm_code = v.farm_code)' : ''
+    const sql = `SELECT v.id, v.village_id, v.adopted, v.questionnaire_version_id${panel ? ', v.round_id, v.farm_id' : ''}, v.answers${flagged ? ', v.not_asked' : ''}${listed}
       FROM visits v FORCE INDEX (visits_round_id_review_state)
       WHERE v.round_id IN (?) AND v.organisation_id = ? AND v.review_state = 'accepted'${panel ? ` AND ${LATEST_OF_FARM_IN_ROUND}` : ''}
       ORDER BY v.round_id, v.id`
@@ -243,13 +252,15 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
       scanAnswers(row[base] as string | null, wanted, scanned)
       const notAsked = flagged && row[base + 1] ? JSON.parse(row[base + 1] as string) as string[] : null
       for (let j = 0; j < keys.length; j++) {
-        const value = scanned[slotOf[j]!]!
+        const value = j === sampleAt ? null : scanned[slotOf[j]!]!
         const option = optionOf[j]
-        const v = zeroFor[j] !== null && notAsked?.includes(questionKeys[slotOf[j]!]!)
-          ? zeroFor[j]!
-          : option === undefined
-            ? (Array.isArray(value) ? null : value)
-            : (Array.isArray(value) && value.length > 0 ? (value.includes(option) ? '1' : '0') : null)
+        const v = j === sampleAt
+          ? (Number(row[listedAt]) === 1 && sampleWeights!.has(Number(row[1])) ? String(sampleWeights!.get(Number(row[1]))) : null)
+          : zeroFor[j] !== null && notAsked?.includes(questionKeys[slotOf[j]!]!)
+            ? zeroFor[j]!
+            : option === undefined
+              ? (Array.isArray(value) ? null : value)
+              : (Array.isArray(value) && value.length > 0 ? (value.includes(option) ? '1' : '0') : null)
         line += v === null ? '|\\N' : `|${v}`
         if (isMissingText(v)) {
           used = false

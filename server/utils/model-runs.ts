@@ -39,6 +39,7 @@ export async function previewModel(user: SignedInUser, request: ModelRequest) {
   const context = await roundContext(request.roundId, user.organisationId)
   const family = await familyOf(request, user.organisationId)
   const spec = specOrBadRequest(request, context, family)
+  await requireSampleWeights(spec, request.roundId, user.organisationId)
   const data = await loadRoundColumns(request.roundId, user.organisationId, spec, family)
   let rows = { totalRows: data.rowCount, used: 0, dropped: 0, byVariable: [] as Array<{ variable: string, label: string, count: number }> }
   let problem: string | null = null
@@ -88,6 +89,7 @@ export async function startModelRun(event: H3Event, user: SignedInUser, request:
   const context = await roundContext(request.roundId, user.organisationId)
   const family = await familyOf(request, user.organisationId)
   const spec = specOrBadRequest(request, context, family)
+  await requireSampleWeights(spec, request.roundId, user.organisationId)
   if (!await hasAcceptedVisits(request.roundId)) throw createError({ statusCode: 422, message: 'This round has no accepted visits yet: accept visits in Review before fitting a model.' })
   const run = await ModelRun.create({
     organisationId: user.organisationId,

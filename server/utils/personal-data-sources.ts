@@ -213,7 +213,30 @@ const farmRegister: PersonalDataSource = {
   }
 }
 
+// The sample lists name the farm's head, say how to find the farm and may hold its position. Erased with the farm
+// (the code becomes the same opaque id as its visits', so the weights still find the visit) and purged at retention
+// (the code becomes the exports' pseudonym, as the visits' codes do).
+const CLEAR_SAMPLE_NAMES = 'head_name = NULL, hint = NULL, lat = NULL, lon = NULL, outcome_note = NULL'
+const sampleListNames: PersonalDataSource = {
+  label: 'Sample lists: the heads\' names, locating hints and positions of the farms to visit',
+  kind: 'names',
+  eraseFarm: async ({ organisationId, farmCode, opaqueId, transaction }) => ({
+    count: await update(`UPDATE sample_farms SET ${CLEAR_SAMPLE_NAMES}, farm_code = ?, names_purged_at = NOW(3) WHERE organisation_id = ? AND farm_code = ?`,
+      [opaqueId, organisationId, farmCode], transaction)
+  }),
+  heldPerRound: async (organisationId, roundIds) => perRound(await select(`SELECT round_id AS roundId, COUNT(*) AS n FROM sample_farms
+    WHERE organisation_id = ? AND round_id IN (?) AND names_purged_at IS NULL GROUP BY round_id`, [organisationId, roundIds])),
+  purgeRounds: async ({ organisationId, roundIds, transaction, now }) => {
+    const rows = await select<{ id: number, farmCode: string }>(`SELECT id, farm_code AS farmCode FROM sample_farms
+      WHERE organisation_id = ? AND round_id IN (?) AND names_purged_at IS NULL ORDER BY id FOR UPDATE`, [organisationId, roundIds], transaction)
+    for (const r of rows) {
+      await update(`UPDATE sample_farms SET ${CLEAR_SAMPLE_NAMES}, farm_code = ?, names_purged_at = ? WHERE id = ?`, [pseudonymOf(organisationId, r.farmCode), now, r.id], transaction)
+    }
+    return { count: rows.length }
+  }
+}
+
 /** Add a new holder of farmers' personal data here (and nowhere else). */
 // Order matters for the purge: sources that find rows by farm code come before visitIdentifiers replaces the codes;
 // the register after it, as it waits until no visit of the farm keeps the code.
-export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, sentBackMail, visitAuditDetails, visitIdentifiers, farmRegister]
+export const PERSONAL_DATA_SOURCES: readonly PersonalDataSource[] = [visitPhotos, visitPositions, sentBackMail, visitAuditDetails, sampleListNames, visitIdentifiers, farmRegister]

@@ -72,8 +72,9 @@ export async function purgeOrganisation(organisationId: number, now: Date, actor
       if (!roundIds.length) continue
       for (const source of PERSONAL_DATA_SOURCES.filter(s => s.kind === kind && s.purgeRounds)) {
         const done = await source.purgeRounds!({ organisationId, roundIds, transaction, now })
-        // The first source of a kind counts the items the settings page listed; the others follow them.
-        if (source === PERSONAL_DATA_SOURCES.find(s => s.kind === kind && s.heldPerRound)) counts[kind] += done.count
+        // The sources that count what they hold (heldPerRound) count what they purge, so the report matches the
+        // settings page's plan; the others (audit details following the visits) are not counted twice.
+        if (source.heldPerRound) counts[kind] += done.count
         for (const key of done.objectKeys ?? []) if (!keys.includes(key)) leftover.push(key)
       }
     }

@@ -6,6 +6,7 @@ import type { VisitExportQuery } from '#shared/utils/schemas/privacy'
 import { ownValue } from '#shared/utils/schemas/safe-text'
 import { QuestionnaireVersion, Village, Visit } from '../db/models'
 import { pseudonymOf } from './pseudonyms'
+import { SAMPLE_WEIGHT_EXPORT_COLUMN, SAMPLE_WEIGHT_EXPORT_MEANING, sampleWeightByVisit } from './sample-lists'
 
 /**
  * How a visit export treats personal data. Pseudonymised (the default, for analysts): farm codes become the
@@ -39,7 +40,8 @@ function exportColumns(questions: Question[], mode: ExportMode) {
         ] as Array<[string, string, string]>
       : []),
     ['saved_at', 'When the visit was saved (UTC, ISO 8601)', 'date-time'],
-    ['questionnaire_version_id', 'The questionnaire version the visit was answered with', 'whole number']
+    ['questionnaire_version_id', 'The questionnaire version the visit was answered with', 'whole number'],
+    [SAMPLE_WEIGHT_EXPORT_COLUMN, SAMPLE_WEIGHT_EXPORT_MEANING, 'number']
   ]
   return { fixed, carried, withPositions }
 }
@@ -57,6 +59,7 @@ export async function acceptedVisitsCsv(roundId: number, organisationId: number,
     QuestionnaireVersion.findAll({ where: { roundId }, attributes: ['id', 'definition'] })
   ])
   const village = new Map(villages.map(v => [v.id, v]))
+  const weights = await sampleWeightByVisit(organisationId, roundId)
   // Which questions each version had: a question added later was neither asked nor "not asked" in older visits.
   const keysOf = new Map(versions.map(v => [v.id, new Set(v.definition.questions.map(q => q.key))]))
   return csvTable(
@@ -70,7 +73,7 @@ export async function acceptedVisitsCsv(roundId: number, organisationId: number,
       const position = withPositions
         ? (mode.identifying ? [v.lat, v.lon] : [rounded(v.lat, mode.precision), rounded(v.lon, mode.precision)])
         : []
-      return [v.id, village.get(v.villageId)?.code, village.get(v.villageId)?.name, farm, ...position, v.savedAt.toISOString(), v.questionnaireVersionId, ...answers]
+      return [v.id, village.get(v.villageId)?.code, village.get(v.villageId)?.name, farm, ...position, v.savedAt.toISOString(), v.questionnaireVersionId, weights.get(v.id) ?? null, ...answers]
     })
   )
 }
@@ -91,7 +94,7 @@ export function answerCells(q: Question, value: unknown, asked: boolean | null):
 export async function dataDictionaryCsv(currentVersionId: number | null, mode: ExportMode = PSEUDONYMISED): Promise<string> {
   const questions = await currentQuestions(currentVersionId)
   const { fixed, carried } = exportColumns(questions, mode)
-  const rows: unknown[][] = fixed.map(([column, meaning, type]) => [column, meaning, type, '', '', column === 'lat' || column === 'lon' ? 'no' : 'yes'])
+  const rows: unknown[][] = fixed.map(([column, meaning, type]) => [column, meaning, type, '', '', column === 'lat' || column === 'lon' || column === SAMPLE_WEIGHT_EXPORT_COLUMN ? 'no' : 'yes'])
   for (const q of carried) {
     // In the order of exportColumnsOf: the question's own column(s), then its `.asked` column.
     if (q.type === 'several') {

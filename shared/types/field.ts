@@ -1,6 +1,7 @@
 import type { MultiPolygon, Polygon } from 'geojson'
 import type { QuestionnaireVersionDto } from '../utils/schemas/questionnaire'
 import type { ServerVisit } from '../utils/schemas/visit'
+import type { FieldSampleList } from './sample'
 
 export interface FieldVillage {
   id: number
@@ -29,6 +30,8 @@ export interface FieldSetup {
   rounds: FieldRound[]
   villages: FieldVillage[]
   questionnaires: QuestionnaireVersionDto[]
+  /** The sample lists of the enumerator's own villages (absent in setups cached before lists existed). */
+  samples?: FieldSampleList[]
   fetchedAt: string
 }
 

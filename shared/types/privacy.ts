@@ -4,6 +4,8 @@ import type { PersonalDataKind, PrivacySettings } from '../utils/schemas/privacy
 export interface FarmFootprint {
   farmCode: string
   visits: number
+  /** Rows of the farm on sample lists (names, hints, positions), visited or not. */
+  listed: number
   photos: number
   /** How many enumerators' tablets hold visits of the farm. */
   tablets: number

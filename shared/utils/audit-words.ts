@@ -24,6 +24,7 @@ const ACTIONS: Record<string, string> = {
   'round.target': 'Set a round\'s target',
   'round.villages': 'Chose a round\'s villages',
   'round.assignments': 'Assigned enumerators',
+  'round.sample_list': 'Saved a village\'s sample list',
   'round.export': 'Exported a round\'s visits',
   'questionnaire.save': 'Saved a questionnaire',
   'village.create': 'Added a village',

@@ -6,6 +6,7 @@ import { DEMO_TECHNOLOGY, demoChecks, generateDemo } from './field-demo'
 import { withDemoLanguages } from './demo-languages'
 import { demoPlotsGroup, withDemoPlots } from './plots-demo'
 import { registerDemoFarms, seedEarlierDemoRound } from './second-round'
+import { seedDemoSample } from './sample-demo'
 
 /** Villages (by index) the demo enumerator is assigned to in the demo round. */
 export const DEMO_ASSIGNED_VILLAGES = [0, 3, 5, 8, 12, 17]
@@ -73,6 +74,7 @@ export async function seedDemoField(sequelize: Sequelize): Promise<boolean> {
     for (let i = 0; i < rows.length; i += 500) await Visit.bulkCreate(rows.slice(i, i + 500), { transaction })
     await seedEarlierDemoRound({ organisationId: organisation.id, enumeratorId: enumerator.id, villageRows, villages, later: visits, before: round, transaction })
     await registerDemoFarms(sequelize, organisation.id, transaction)
+    await seedDemoSample({ organisationId: organisation.id, roundId: round.id, villages: villageRows, visitCodes: villageRows.map((_, g) => visits.filter(v => v.villageIndex === g).map(v => v.farmCode)), assigned: DEMO_ASSIGNED_VILLAGES }, transaction)
   })
   return true
 }

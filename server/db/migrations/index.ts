@@ -14,6 +14,7 @@ import * as m0110 from './0110-audit-search'
 import * as m0140 from './0140-visit-not-asked'
 import * as m0150 from './0150-personal-data'
 import * as m0200 from './0200-field-devices'
+import * as m0230 from './0230-sample-lists'
 import * as m0240 from './0240-farm-register'
 
 // Listed by hand, in order: the bundled server has no migrations folder to scan at run time.
@@ -35,5 +36,6 @@ export const MIGRATIONS = [
   { name: '0140-visit-not-asked', ...m0140 },
   { name: '0150-personal-data', ...m0150 },
   { name: '0200-field-devices', ...m0200 },
+  { name: '0230-sample-lists', ...m0230 },
   { name: '0240-farm-register', ...m0240 }
 ]

@@ -11,6 +11,8 @@ import { QuestionnaireVersion } from './questionnaire-version'
 import { RateEvent } from './rate-event'
 import { ROUND_STATUSES, Round, type RoundStatus } from './round'
 import { RoundVillage } from './round-village'
+import { SampleFarm } from './sample-farm'
+import { SampleVillage } from './sample-village'
 import { SessionRecord } from './session-record'
 import { SignInAttempt } from './sign-in-attempt'
 import { User } from './user'
@@ -21,6 +23,7 @@ import { REVIEW_STATES, VISIT_SOURCES, Visit, type ReviewState, type VisitFlags,
 export { AuditEntry, DEFAULT_ORGANISATION_SETTINGS, MAIL_STATUSES, MailMessage, Organisation, RateEvent, SignInAttempt, TOKEN_PURPOSES, User, UserToken, settingsOf }
 export { Assignment, Photo, QuestionnaireVersion, REVIEW_STATES, ROUND_STATUSES, Round, RoundVillage, Village, Visit }
 export { IMPORT_MODES, ImportBatch, ModelRun, Publication, SessionRecord, VISIT_SOURCES }
+export { SampleFarm, SampleVillage }
 export type { FunderOrganisation, ImportMode, VisitSource, MailStatus, OrganisationSettings, ReviewState, RoundStatus, TokenPurpose, VisitFlags }
 
 export function initModels(sequelize: Sequelize): void {
@@ -51,4 +54,6 @@ export function initModels(sequelize: Sequelize): void {
   ModelRun.initModel(sequelize)
   Publication.initModel(sequelize)
   ImportBatch.initModel(sequelize)
+  SampleVillage.initModel(sequelize)
+  SampleFarm.initModel(sequelize)
 }

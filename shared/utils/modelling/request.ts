@@ -4,6 +4,12 @@ import { severalRoundsSchema } from '../schemas/panel'
 
 const key = z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Unknown question key')
 /** A question's key, or question.option for one option of a several-answer question (one yes/no term). */
+/**
+ * The builder's choice "weights from the sample lists": each visit of a listed farm weighs 1 / (P(village) · n_v / N_v)
+ * (shared/utils/sampling/weights.ts). Not a question key (keys hold no hyphen), so it never meets one; the same name
+ * is the weight column the server loads for the engine.
+ */
+export const SAMPLE_LIST_WEIGHTS = 'sample-lists'
 const termKey = z.string().regex(/^[a-z][a-z0-9_]{0,39}(\.[a-z0-9_]{1,40})?$/, 'Unknown question key')
 
 export const covariateChoiceSchema = z.object({
@@ -48,7 +54,7 @@ export const VILLAGE_LABELS: Record<typeof VILLAGE_CHOICES[number], { label: str
   },
   'survey': {
     label: 'Follow the sampling plan',
-    explain: 'Villages as the sampled units and the sampling weights from a number question: results describe the whole population the sample was drawn from.'
+    explain: 'Villages as the sampled units and the sampling weights from the sample lists or a number question: results describe the whole population the sample was drawn from.'
   }
 }
 
@@ -69,7 +75,7 @@ export const modelRequestSchema = z.object({
   interactions: z.array(z.tuple([termKey, termKey])).max(10).default([]),
   link: z.enum(LINK_CHOICES).default('probit'),
   se: z.enum(SE_CHOICES).default('cluster'),
-  weights: key.optional(),
+  weights: z.union([key, z.literal(SAMPLE_LIST_WEIGHTS)]).optional(),
   margins: z.enum(['ame', 'mem']).default('ame'),
   villages: z.enum(VILLAGE_CHOICES).default('cluster'),
   checks: checksChoiceSchema.default({ linkTest: false, hetero: [] }),
@@ -77,7 +83,7 @@ export const modelRequestSchema = z.object({
   several: severalRoundsSchema.optional()
 }).superRefine((request, ctx) => {
   if (request.several) severalRoundsProblems(request, ctx)
-  if (request.villages === 'survey' && !request.weights) ctx.addIssue({ code: 'custom', path: ['weights'], message: 'The sampling plan needs the question that holds the sampling weights' })
+  if (request.villages === 'survey' && !request.weights) ctx.addIssue({ code: 'custom', path: ['weights'], message: 'The sampling plan needs the sampling weights: from the sample lists or a question' })
   if (request.villages === 'random-intercept' && request.link !== 'probit' && request.link !== 'logit') {
     ctx.addIssue({ code: 'custom', path: ['link'], message: 'Village adoption levels are available with the probit or logit only' })
   }

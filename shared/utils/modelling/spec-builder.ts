@@ -1,7 +1,7 @@
 import type { CovariateSpec, ModelSpec } from '../stats/types'
 import { conditionText } from '../asking'
 import { NOT_ASKED_LEVEL, displayLabel, modelableQuestions, type ModelQuestion } from './questions'
-import type { ModelRequest } from './request'
+import { SAMPLE_LIST_WEIGHTS, type ModelRequest } from './request'
 
 export const VILLAGE_COLUMN = 'village'
 
@@ -52,7 +52,7 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
     if (question.type === 'yesno') return { name: question.key, label: question.label, type: 'yesno', ...notAsked }
     return { name: question.key, label: displayLabel(question), type: 'numeric', transform: choice.transform, square: choice.square, ...notAsked }
   })
-  if (request.weights && !questions.some(q => q.key === request.weights && (q.type === 'number' || q.type === 'whole'))) {
+  if (request.weights && request.weights !== SAMPLE_LIST_WEIGHTS && !questions.some(q => q.key === request.weights && (q.type === 'number' || q.type === 'whole'))) {
     throw new ModelRequestError('weights', 'Sampling weights must come from a number question')
   }
   // The heteroskedasticity test names model terms: a number's term carries its transform.
@@ -70,6 +70,7 @@ export function specFromRequest(request: ModelRequest, questions: readonly Model
     interactions: request.interactions,
     link: request.link,
     weights: request.weights,
+    ...(request.weights === SAMPLE_LIST_WEIGHTS ? { weightsLabel: 'sampling weight (farm not on a sample list)' } : {}),
     cluster: VILLAGE_COLUMN,
     se: request.villages === 'cluster' ? request.se : undefined,
     ...(request.villages && request.villages !== 'cluster' ? { villageTreatment: request.villages } : {}),

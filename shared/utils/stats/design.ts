@@ -364,7 +364,7 @@ export function buildDesign(data: DataInput, spec: ModelSpec): Design {
     { name: spec.outcome, label: plan.outcomeLabel },
     ...covs.map(c => ({ name: c.name, label: c.label }))
   ]
-  if (spec.weights) vars.push({ name: spec.weights, label: spec.weights })
+  if (spec.weights) vars.push({ name: spec.weights, label: spec.weightsLabel ?? spec.weights })
   if (spec.cluster) vars.push({ name: spec.cluster, label: spec.cluster })
   // Typed numeric columns hold no missing values (NaN is a non-finite value, refused later): skip them here.
   const getters = vars.map(v => (typedColumn(data, v.name) ? null : acc.column(v.name)))

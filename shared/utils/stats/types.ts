@@ -61,6 +61,8 @@ export interface ModelSpec {
   link?: LinkName
   /** Sampling (probability) weights column. */
   weights?: string
+  /** How the weights are named in messages (the column's name when absent). */
+  weightsLabel?: string
   /** Cluster id column (the village). */
   cluster?: string
   /** Covariance for the summary and the margins. Default 'cluster' when `cluster` is set, else 'conventional'. */
