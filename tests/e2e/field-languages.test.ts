@@ -169,9 +169,13 @@ describe('a questionnaire in two languages', () => {
     const demo = await Round.findOne({ where: { name: 'Sorghum seed adoption, 2026 short rains' } })
     await page.goto(`/rounds/${demo!.id}?part=questionnaire`)
     await poll(() => page.getByTestId('missing-sw').innerText(), 20_000).toBe('Kiswahili: every text is translated.')
+    // Complete, the texts stay folded until asked for (a long page otherwise); one button opens them.
+    expect(await page.getByTestId('translations-sw').count()).toBe(0)
+    await page.getByRole('group', { name: 'Texts of' }).getByRole('button', { name: 'Kiswahili' }).click()
     const demoTable = page.getByTestId('translations-sw')
     expect(await demoTable.getByLabel('Answer: Microfinance lender').inputValue()).toBe('Taasisi ya mikopo midogo')
     expect(await demoTable.getByTestId('translation-check-0').getByRole('textbox').inputValue()).toMatch(/^Miaka ya shule/)
+    expect(await demoTable.getByTestId('translation-plot_soil').getByLabel('Answer: Loam').inputValue()).toBe('Udongo tifutifu')
     await page.getByTestId('builder-languages').screenshot({ path: path.join(SCREENSHOTS, 'builder-languages-demo.png') })
     await context.close()
   })

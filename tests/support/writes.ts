@@ -5,8 +5,9 @@ import { storedColumnsSql, tableDigestSql } from './table-digest'
 // "Nothing was written": the row count of every table, plus a checksum of the content of the tables a refused
 // request could change in place (settings, questionnaires, visits). Tables that count requests by design (sign-in
 // and rate limits, sessions and their last-seen times) and rows that other work updates in the background (the
-// mail queue's send state, fits finishing) are compared by count only, or not at all.
-const NOT_COMPARED = /^(rate_events|sign_in_attempts|SequelizeMeta)$|session/i
+// mail queue's send state, fits finishing) are compared by count only, or not at all; so is the lease row the
+// scheduled retention check takes and lets go on its own clock.
+const NOT_COMPARED = /^(rate_events|sign_in_attempts|SequelizeMeta|furrowcast_leases)$|session/i
 const COUNT_ONLY = /^(users|mail_messages|model_runs|audit_entries)$/
 
 export async function dataFingerprint(): Promise<Record<string, string>> {

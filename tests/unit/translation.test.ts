@@ -7,6 +7,7 @@ import { answersSchemaFor } from '../../shared/utils/schemas/visit'
 import { localiseDefinition, missingTranslations, prunedCheckMessages, prunedTranslations, shownLanguageCode } from '../../shared/utils/translation'
 import { demoChecks, demoQuestions } from '../../server/db/demo/field-demo'
 import { withDemoLanguages } from '../../server/db/demo/demo-languages'
+import { demoPlotsGroup } from '../../server/db/demo/plots-demo'
 
 // An invented questionnaire in English and an invented language, "Tolani" (code qaa, ISO 639's private-use range).
 const questions: QuestionInput[] = [
@@ -181,11 +182,14 @@ describe('pruning what the builder sends', () => {
 })
 
 describe('the demo round', () => {
-  it('is complete in Kiswahili, and its check message is translated', () => {
-    const demo = parse(withDemoLanguages({ questions: demoQuestions(), checks: demoChecks() }))
+  it('is complete in Kiswahili, its plots and its check message too', () => {
+    const demo = parse(withDemoLanguages({ questions: demoQuestions(), checks: demoChecks(), groups: [demoPlotsGroup()] }))
     expect(demo.errors).toEqual({})
     const sw = localiseDefinition(demo.ok!, 'sw')
     expect(sw.questions.find(q => q.key === 'female_head')!.label).toBe('Je, kaya inaongozwa na mwanamke?')
     expect(sw.checks![0]!.message).toMatch(/^Miaka ya shule/)
+    const plots = sw.groups![0]!
+    expect(plots.label).toBe('Vipande vya shamba')
+    expect(plots.questions.find(q => q.key === 'plot_soil')).toMatchObject({ label: 'Aina kuu ya udongo wa kipande', options: [{ value: 'sandy', label: 'Udongo wa kichanga' }, { value: 'loam', label: 'Udongo tifutifu' }, { value: 'clay', label: 'Udongo wa mfinyanzi' }] })
   })
 })
