@@ -12,7 +12,7 @@
  * and each pass is timed alone beside the bytes it reads (GB/s), to show the distance to memory bandwidth.
  * The CSV path: `npm run fit` on the 1e6 file (whole process) against a Python process that reads the same
  * file with pandas and fits statsmodels' probit with cluster SEs (whole process too).
- * Run: npx tsx bench/engine.bench.ts
+ * Run: npx tsx bench/engine.bench.ts (FURROWCAST_BENCH_SIZES=100000 for one size)
  */
 import { spawnSync } from 'node:child_process'
 import { build } from 'esbuild'
@@ -27,7 +27,8 @@ import { normal, prng } from '../shared/utils/random/prng'
 
 const here = dirname(fileURLToPath(import.meta.url))
 const tmpDir = join(here, 'tmp')
-const SIZES = [1e4, 1e5, 1e6]
+// FURROWCAST_BENCH_SIZES=100000 (comma-separated) runs chosen sizes only, e.g. to re-measure one target quickly.
+const SIZES = process.env.FURROWCAST_BENCH_SIZES ? process.env.FURROWCAST_BENCH_SIZES.split(',').map(Number) : [1e4, 1e5, 1e6]
 const K = 10
 const CLUSTERS = 500
 const PYTHON = '/usr/bin/python3'

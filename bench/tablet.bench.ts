@@ -39,10 +39,17 @@ async function firstLoad(browser: Browser, url: string, credentials: { email: st
     // preloads (modulepreload) was fetched a second time when the script imported it, as no tablet would.
     await cdp.send('Network.enable')
     await cdp.send('Network.emulateNetworkConditions', LINK)
+    let started = Date.now()
     const types = new Map<string, string>()
+    // The waterfall (FURROWCAST_BENCH_WATERFALL=1): when each request started and finished after navigation, and
+    // its bytes on the wire — what the time until the form is usable is made of.
+    const requests = new Map<string, { url: string, start: number, end?: number, bytes?: number }>()
+    cdp.on('Network.requestWillBeSent', e => requests.set(e.requestId, { url: e.request.url.replace(url, ''), start: Date.now() - started }))
     let jsBytes = 0, allBytes = 0, jsFiles = 0, counting = true
     cdp.on('Network.responseReceived', e => types.set(e.requestId, e.type))
     cdp.on('Network.loadingFinished', (e) => {
+      const r = requests.get(e.requestId)
+      if (r) Object.assign(r, { end: Date.now() - started, bytes: e.encodedDataLength })
       if (!counting) return
       allBytes += e.encodedDataLength
       if (types.get(e.requestId) === 'Script') {
@@ -50,7 +57,7 @@ async function firstLoad(browser: Browser, url: string, credentials: { email: st
         jsFiles++
       }
     })
-    const started = Date.now()
+    started = Date.now()
     await page.goto('/field', { waitUntil: 'commit' })
     await page.getByRole('link', { name: 'New visit' }).first().click({ timeout: 60_000 })
     // The form opens on consent (interview order): usable once its checkbox can be ticked and the farm code typed.
@@ -58,6 +65,12 @@ async function firstLoad(browser: Browser, url: string, credentials: { email: st
     await page.getByLabel('Farm code *').fill('BENCH-1', { timeout: 60_000 })
     const ms = Date.now() - started
     counting = false
+    if (process.env.FURROWCAST_BENCH_WATERFALL) {
+      console.log(`waterfall (${compressed ? 'compressed' : 'uncompressed'}), form usable at ${ms} ms:`)
+      for (const r of [...requests.values()].sort((a, b) => a.start - b.start)) {
+        console.log(`  ${String(r.start).padStart(5)} → ${String(r.end ?? '…').padStart(5)} ms ${String(r.bytes ?? '').padStart(7)} B  ${r.url.slice(0, 90)}`)
+      }
+    }
     return { ms, jsBytes, allBytes, jsFiles }
   }
   finally {

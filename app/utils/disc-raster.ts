@@ -32,6 +32,10 @@ interface Stamp {
   overClear: Map<number, Uint32Array>
 }
 
+/** Blocks of the occlusion grid: 4 × 4 device pixels. */
+const BLOCK_SHIFT = 2
+const BLOCK = 1 << BLOCK_SHIFT
+
 const clamp01 = (x: number) => (x < 0 ? 0 : x > 1 ? 1 : x)
 
 /** Coverage of a band of `width` pixels centred on radius `r`, for a pixel whose centre is `d` from the centre. */
@@ -124,6 +128,56 @@ export class DiscRaster {
   disc(x: number, y: number, radius: number, fill: Rgb) {
     const line = Math.max(1, Math.round(this.scale))
     this.put(this.stamp(this.discs, this.snapped(radius, line), line, null, true), Math.floor(x), Math.floor(y), fill)
+  }
+
+  /**
+   * Which of these discs (centres and radii as `disc` takes them, in drawing order) would show: the indices into
+   * `xs`/`ys`/`radii` of those not wholly under the solid fill of discs drawn after them, in drawing order. Walks
+   * the discs from the top down over a grid of 4-px blocks, marking the blocks a disc's solid interior fills; a disc
+   * whose every block is already filled is skipped, so drawing the rest gives exactly the same pixels. With tens of
+   * thousands of villages in one view most discs lie under others: skipping them is most of the raster's work saved.
+   */
+  visibleDiscs(xs: Float64Array, ys: Float64Array, radii: Float64Array, count: number): Int32Array {
+    const line = Math.max(1, Math.round(this.scale))
+    const bw = (this.width + BLOCK - 1) >> BLOCK_SHIFT
+    const bh = (this.height + BLOCK - 1) >> BLOCK_SHIFT
+    const filled = new Uint8Array(bw * bh)
+    const keep = new Int32Array(count)
+    let kept = 0
+    for (let i = count - 1; i >= 0; i--) {
+      const cx = Math.floor(xs[i]!)
+      const cy = Math.floor(ys[i]!)
+      const r = this.snapped(radii[i]!, line)
+      const ext = Math.ceil(r + line / 2 + 1)
+      // Blocks the stamp's extent touches, clipped to the buffer (pixels outside it are never drawn).
+      const bx0 = Math.max(0, (cx - ext) >> BLOCK_SHIFT), bx1 = Math.min(bw - 1, (cx + ext) >> BLOCK_SHIFT)
+      const by0 = Math.max(0, (cy - ext) >> BLOCK_SHIFT), by1 = Math.min(bh - 1, (cy + ext) >> BLOCK_SHIFT)
+      let hidden = bx0 <= bx1 && by0 <= by1
+      for (let by = by0; hidden && by <= by1; by++) {
+        for (let bx = bx0; bx <= bx1; bx++) {
+          if (!filled[by * bw + bx]) {
+            hidden = false
+            break
+          }
+        }
+      }
+      if (hidden) continue
+      keep[kept++] = i
+      // A pixel is solid fill when its centre is within r - line/2 - 1/2 of the disc's centre pixel (see
+      // buildStamp: the ink band starts there); a block is filled when its farthest pixel is.
+      const solid = r - line / 2 - 0.5
+      const solid2 = solid * solid
+      for (let by = by0; by <= by1; by++) {
+        const y0 = (by << BLOCK_SHIFT) - cy, y1 = y0 + BLOCK - 1
+        const dy = Math.max(Math.abs(y0), Math.abs(y1))
+        for (let bx = bx0; bx <= bx1; bx++) {
+          const x0 = (bx << BLOCK_SHIFT) - cx, x1 = x0 + BLOCK - 1
+          const dx = Math.max(Math.abs(x0), Math.abs(x1))
+          if (dx * dx + dy * dy <= solid2) filled[by * bw + bx] = 1
+        }
+      }
+    }
+    return keep.subarray(0, kept).reverse()
   }
 
   /** A dashed ring in the ink colour: `width` CSS px wide at `radius` CSS px, dashes of `dash` CSS px. */

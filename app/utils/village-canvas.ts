@@ -184,7 +184,19 @@ export class VillageCanvasLayer extends L.Layer {
     else this.image.data.fill(0)
     const raster = new DiscRaster(this.image.data, canvas.width, canvas.height, ratio, INK)
     const toDevice = (v: number, from: number) => (v - from) * ratio
-    for (const i of circles) raster.disc(toDevice(this.xs[i]!, min.x), toDevice(this.ys[i]!, min.y), this.marks[i]!.radius, this.rgb(this.marks[i]!.fill))
+    const cx = new Float64Array(circles.length)
+    const cy = new Float64Array(circles.length)
+    const radii = new Float64Array(circles.length)
+    circles.forEach((i, k) => {
+      cx[k] = toDevice(this.xs[i]!, min.x)
+      cy[k] = toDevice(this.ys[i]!, min.y)
+      radii[k] = this.marks[i]!.radius
+    })
+    // Only the discs not wholly hidden under later ones: the same pixels for a fraction of the work.
+    for (const k of raster.visibleDiscs(cx, cy, radii, circles.length)) {
+      const m = this.marks[circles[k]!]!
+      raster.disc(cx[k]!, cy[k]!, m.radius, this.rgb(m.fill))
+    }
     // Below target: a thick dark dashed ring just outside the village, readable on every class colour and without colour.
     for (const i of marked) if (!this.shapes.has(i)) raster.dashedRing(toDevice(this.xs[i]!, min.x), toDevice(this.ys[i]!, min.y), this.marks[i]!.radius + 4, 3, DASH)
     ctx.putImageData(this.image, 0, 0)
