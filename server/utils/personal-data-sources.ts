@@ -88,9 +88,7 @@ export function answersWithoutRowText(answers: Record<string, unknown>, rows: Te
       const held = keys.filter(k => Object.prototype.hasOwnProperty.call(row, k))
       if (!held.length) return row
       changed = true
-      const kept: Record<string, unknown> = { ...(row as Record<string, unknown>) }
-      for (const k of held) delete kept[k]
-      return kept
+      return Object.fromEntries(Object.entries(row).filter(([k]) => !keys.includes(k)))
     })
   }
   return changed ? out : null

@@ -88,6 +88,22 @@ describe('free text inside plots', () => {
     expect(identifying).toContain(ERASED_NAME)
   })
 
+  it('stays out of the pseudonymised plot table when a later version asks the same key as another kind', async () => {
+    const saved = await org.coordinator.request('PUT', `/api/rounds/${round.roundId}/questionnaire`, { questions: [
+      { key: 'farm_size_ha', label: 'Farm size', type: 'number', unit: 'ha', min: 0, max: 50, required: true },
+      { key: 'household_size', label: 'Household size', type: 'whole', min: 1, max: 30, required: true }
+    ], groups: [{ ...PLOTS, questions: [PLOTS.questions[0], { key: 'plot_note', label: 'Kind of note', type: 'choice', options: [{ value: 'owned', label: 'Owned' }, { value: 'rented', label: 'Rented' }] }] }] })
+    expect(saved.status, JSON.stringify(saved.body)).toBe(200)
+    const plots = rectangular(await exportText('part=rows&group=plots'))
+    const column = plots[0]!.indexOf('plot_note')
+    expect(column).toBeGreaterThan(0)
+    const mine = plots.filter(r => r[0] === erasedFarm.id || r[0] === keptFarm.id)
+    expect(mine).toHaveLength(4)
+    for (const r of mine) expect(r[column]).toBe('')
+    expect(plots.flat().join(' ')).not.toContain(ERASED_NAME)
+    expect(plots.flat().join(' ')).not.toContain(KEPT_NAME)
+  })
+
   it('is blanked in every row by erasure on request, the plots\' other answers kept, another farm untouched', async () => {
     const answer = await org.coordinator.post<ErasureResult>('/api/privacy/erasures', { farmCode: erasedFarm.farmCode, reason: 'The farmer withdrew consent at the field day' })
     expect(answer.status, JSON.stringify(answer.body)).toBe(200)
