@@ -75,10 +75,16 @@ describe('the whole tablet path of a field day, then review', () => {
     // The visit starts from the list: its farm code is filled in and stays through the switch to Kiswahili.
     await farm(page, toVisit).getByRole('link', { name: 'Start visit' }).click()
     await page.waitForURL(url => url.pathname === '/field/visit' && url.searchParams.get('farm') === toVisit, { timeout: LONG })
+    // Switched before consent (the visit is not on the tablet yet), then again once it is a draft.
     expect(await language(page, 'English').getAttribute('aria-pressed')).toBe('true')
+    await language(page, 'Kiswahili').click()
+    await poll(() => labelOf(page, 'q-farm_size_ha')).toBe('Ukubwa wa shamba * (hekta)')
+    expect(await page.locator('#farm-code').inputValue()).toBe(toVisit)
     await page.getByRole('checkbox', { name: /informed consent/ }).check()
     await page.waitForURL(/\/field\/visit\?id=/, { timeout: LONG })
     expect(await page.locator('#farm-code').inputValue()).toBe(toVisit)
+    await language(page, 'English').click()
+    await poll(() => labelOf(page, 'q-farm_size_ha')).toBe('Farm size * (ha)')
     await language(page, 'Kiswahili').click()
     await poll(() => labelOf(page, 'q-farm_size_ha')).toBe('Ukubwa wa shamba * (hekta)')
     expect(await language(page, 'Kiswahili').getAttribute('aria-pressed')).toBe('true')
@@ -99,6 +105,19 @@ describe('the whole tablet path of a field day, then review', () => {
     await page.locator('#q-credit_source').selectOption({ label: 'Taasisi ya mikopo midogo' })
     await page.locator('input[name="q-credit_access"][value="false"]').check({ force: true })
     await poll(() => page.getByText(CREDIT_SW).count()).toBe(0)
+
+    // The tablet is reloaded mid-visit (battery, a stray swipe): the draft comes back with its listed farm code, its
+    // answers and the language chosen.
+    await poll(() => page.evaluate(() => document.body.innerText.includes('Your answers are kept on this tablet as you type.'))).toBe(true)
+    // The draft is written 0.3 s after the last change (encrypted, then stored): nothing on screen marks the write,
+    // so a generous pause for a loaded machine.
+    await page.waitForTimeout(2_500)
+    await page.reload()
+    await openFieldStore(page)
+    await poll(() => labelOf(page, 'q-farm_size_ha'), LONG).toBe('Ukubwa wa shamba * (hekta)')
+    expect(await page.locator('#farm-code').inputValue()).toBe(toVisit)
+    expect(await page.locator('#q-livestock_tlu').inputValue()).toBe(NUMBERS.livestock_tlu)
+    expect(await page.locator('input[name="q-credit_access"][value="false"]').isChecked()).toBe(true)
 
     // Two plots, in Kiswahili: the seed question appears on a plot only once "sown" is yes.
     const group = page.getByTestId('group-plots')
