@@ -23,6 +23,12 @@ export async function exportedGroups(currentVersionId: number | null, mode: Expo
   }
 }
 
+/** The free-text questions inside groups, per questionnaire version. */
+async function groupTextKeysByVersion(versionIds: number[]): Promise<Map<number, Set<string>>> {
+  const versions = await QuestionnaireVersion.findAll({ where: { id: [...new Set(versionIds)] }, attributes: ['id', 'definition'] })
+  return new Map(versions.map(v => [v.id, new Set((v.definition.groups ?? []).flatMap(g => g.questions.filter(q => q.type === 'text').map(q => q.key)))]))
+}
+
 function cellsOf(q: Question, value: unknown, asked: boolean | null): unknown[] {
   const own = q.type === 'several'
     ? q.options.map(o => Array.isArray(value) && !isNoAnswer(value) ? (value.includes(o.value) ? 1 : 0) : null)
@@ -40,6 +46,9 @@ export async function groupRowsCsv(roundId: number, organisationId: number, curr
     Village.findAll({ where: { organisationId }, attributes: ['id', 'code'] })
   ])
   const village = new Map(villages.map(v => [v.id, v.code]))
+  // A key that was free text in the visit's own version stays out of a pseudonymised table even when the current
+  // version (whose questions make the columns) asks it as another kind: the stored answer may still be a name.
+  const textInVersion = mode.identifying ? new Map<number, Set<string>>() : await groupTextKeysByVersion(visits.map(v => v.questionnaireVersionId))
   const farmColumn = mode.identifying ? 'farm_code' : 'farm_pseudonym'
   const lines: unknown[][] = []
   for (const v of visits) {
@@ -47,7 +56,7 @@ export async function groupRowsCsv(roundId: number, organisationId: number, curr
     rowsOf(v.answers, groupKey).forEach((row, i) => {
       const { asked } = rowAsking(top, table.group, v.answers, row)
       lines.push([v.id, ownValue(row, 'row'), i + 1, village.get(v.villageId), farm, v.questionnaireVersionId,
-        ...table.questions.flatMap(q => cellsOf(q, ownValue(row, q.key), asked.has(q.key)))])
+        ...table.questions.flatMap(q => cellsOf(q, textInVersion.get(v.questionnaireVersionId)?.has(q.key) ? null : ownValue(row, q.key), asked.has(q.key)))])
     })
   }
   return csvTable(['visit_id', 'row_id', 'row_number', 'village_code', farmColumn, 'questionnaire_version_id', ...table.questions.flatMap(q => exportColumnsOf(q))], lines)

@@ -60,26 +60,70 @@ function perRound(rows: Array<{ roundId: number, n: number | string }>): Map<num
   return new Map(rows.map(r => [Number(r.roundId), Number(r.n)]))
 }
 
-/** The keys of free-text questions per questionnaire version: free text may hold names, places, anything. */
-async function textKeysByVersion(versionIds: number[], transaction?: Transaction): Promise<Map<number, string[]>> {
-  const versions = await QuestionnaireVersion.findAll({ where: { id: [...new Set(versionIds)] }, attributes: ['id', 'definition'], transaction })
-  return new Map(versions.map(v => [v.id, v.definition.questions.filter(q => q.type === 'text').map(q => q.key)]))
+interface TextKeys {
+  /** Free-text questions asked once per visit: answers.<key>. */
+  top: string[]
+  /** Free-text questions inside repeated groups, per group key: answers.<group>[i].<key>. */
+  rows: Array<{ group: string, keys: string[] }>
 }
 
-/** Removes the free-text answers of the given visits, one statement per questionnaire version. */
+/** The keys of free-text questions per questionnaire version: free text may hold names, places, anything. */
+async function textKeysByVersion(versionIds: number[], transaction?: Transaction): Promise<Map<number, TextKeys>> {
+  const versions = await QuestionnaireVersion.findAll({ where: { id: [...new Set(versionIds)] }, attributes: ['id', 'definition'], transaction })
+  return new Map(versions.map(v => [v.id, {
+    top: v.definition.questions.filter(q => q.type === 'text').map(q => q.key),
+    rows: (v.definition.groups ?? []).map(g => ({ group: g.key, keys: g.questions.filter(q => q.type === 'text').map(q => q.key) })).filter(g => g.keys.length > 0)
+  }]))
+}
+
+/** The answers without the rows' free text; null when no row held any. */
+export function answersWithoutRowText(answers: Record<string, unknown>, rows: TextKeys['rows']): Record<string, unknown> | null {
+  let changed = false
+  const out: Record<string, unknown> = { ...answers }
+  for (const { group, keys } of rows) {
+    const list = Object.prototype.hasOwnProperty.call(answers, group) ? answers[group] : undefined
+    if (!Array.isArray(list)) continue
+    out[group] = list.map((row: unknown) => {
+      if (!row || typeof row !== 'object' || Array.isArray(row)) return row
+      const held = keys.filter(k => Object.prototype.hasOwnProperty.call(row, k))
+      if (!held.length) return row
+      changed = true
+      return Object.fromEntries(Object.entries(row).filter(([k]) => !keys.includes(k)))
+    })
+  }
+  return changed ? out : null
+}
+
+/**
+ * Removes the free-text answers of the given visits: the top-level ones with one statement per questionnaire version,
+ * the ones inside a group's rows (a plot's note, say) visit by visit, as JSON paths cannot reach every row at once.
+ * Returns how many visits held any.
+ */
 async function dropTextAnswers(visits: Array<{ id: string, questionnaireVersionId: number }>, transaction: Transaction): Promise<number> {
   const keys = await textKeysByVersion(visits.map(v => v.questionnaireVersionId), transaction)
-  let count = 0
-  for (const [versionId, textKeys] of keys) {
-    if (!textKeys.length) continue
+  const held = new Set<string>()
+  for (const [versionId, { top, rows }] of keys) {
     const ids = visits.filter(v => v.questionnaireVersionId === versionId).map(v => v.id)
-    const paths = textKeys.map(k => `$.${k}`)
-    // Question keys are [a-z][a-z0-9_]*, so each path is a plain member path.
-    const held = await select<{ n: number }>(`SELECT COUNT(*) AS n FROM visits WHERE id IN (?) AND (${paths.map(() => 'JSON_EXISTS(answers, ?)').join(' OR ')})`, [ids, ...paths], transaction)
-    count += Number(held[0]?.n ?? 0)
-    await update(`UPDATE visits SET answers = JSON_REMOVE(answers, ${paths.map(() => '?').join(', ')}) WHERE id IN (?)`, [...paths, ids], transaction)
+    if (!ids.length) continue
+    if (top.length) {
+      const paths = top.map(k => `$.${k}`)
+      // Question keys are [a-z][a-z0-9_]*, so each path is a plain member path.
+      const holding = await select<{ id: string }>(`SELECT id FROM visits WHERE id IN (?) AND (${paths.map(() => 'JSON_EXISTS(answers, ?)').join(' OR ')})`, [ids, ...paths], transaction)
+      for (const r of holding) held.add(r.id)
+      await update(`UPDATE visits SET answers = JSON_REMOVE(answers, ${paths.map(() => '?').join(', ')}) WHERE id IN (?)`, [...paths, ids], transaction)
+    }
+    if (!rows.length) continue
+    const stored = await select<{ id: string, answers: unknown }>('SELECT id, answers FROM visits WHERE id IN (?) FOR UPDATE', [ids], transaction)
+    for (const v of stored) {
+      const answers = typeof v.answers === 'string' ? JSON.parse(v.answers) as unknown : v.answers
+      if (!answers || typeof answers !== 'object' || Array.isArray(answers)) continue
+      const blanked = answersWithoutRowText(answers as Record<string, unknown>, rows)
+      if (!blanked) continue
+      held.add(v.id)
+      await update('UPDATE visits SET answers = ? WHERE id = ?', [JSON.stringify(blanked), v.id], transaction)
+    }
   }
-  return count
+  return held.size
 }
 
 const visitPhotos: PersonalDataSource = {
