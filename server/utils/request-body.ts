@@ -48,6 +48,10 @@ export async function readBodyWithin(event: H3Event, maxBytes: number, message: 
     return createError({ statusCode: 413, message })
   }
   if (Number(getHeader(event, 'content-length') ?? 0) > maxBytes) throw tooLarge()
+  // A client that sent a short body and left before it was read: Node has destroyed the request with the body still
+  // in its buffer, and no 'data', 'end' or 'close' will come. Answer at once (nobody reads it) instead of waiting for
+  // events that never fire, which held the request, its sync slot and its memory until the server stopped.
+  if (req.destroyed) throw createError({ statusCode: 400, message: 'The request was cut off before its end.' })
   return new Promise<Buffer>((resolve, reject) => {
     const chunks: Buffer[] = []
     let size = 0
