@@ -156,7 +156,7 @@ export async function ingestVisits(actor: Actor, records: unknown[]): Promise<Sy
   // runs it again, so no flag is lost to a crash between the commit and here.
   const valid = checked.flatMap(c => 'input' in c && results[c.index]?.status !== 'rejected' ? [c.input] : [])
   await withConflictRetry(() => flagDuplicateFarmCodes(valid))
-  await withConflictRetry(() => linkVisitsToFarms({ organisationId: actor.organisationId, roundIds: valid.map(v => v.roundId), farmCodes: valid.map(v => v.farmCode) }))
+  await withConflictRetry(() => linkVisitsToFarms({ organisationId: actor.organisationId, roundIds: valid.map(v => v.roundId), farmCodes: valid.map(v => v.farmCode) }, undefined, { report: false }))
   const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0, erased: 0 }
   for (const r of results) counts[r.status]++
   return { results, counts }
