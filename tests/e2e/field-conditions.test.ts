@@ -1,28 +1,17 @@
 import path from 'node:path'
-import type { Browser, Page } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import type { Page } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
 import { Assignment, QuestionnaireVersion, Round, User, Village, Visit } from '../../server/db/models'
-import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext, waitForApp } from '../support/browser'
-import { DEMO, baseUrl, demoUser, freshClient } from '../support/server'
+import { SCREENSHOTS, newTabletContext, waitForApp } from '../support/browser'
+import { DEMO, demoUser, freshClient } from '../support/server'
 import { openFieldStore } from '../support/field-pin'
+import { poll, useBrowser } from '../support/pages'
 
 // The demo questionnaire asks "Where does the credit come from?" only when the farm has credit, and "Where did the
 // household hear of the seed?" takes several answers. On a tablet with no network: the question appears and goes as
 // the credit answer changes, several sources are ticked, the visits sync once back online, and review shows them.
 
-let browser: Browser
-const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
-
-beforeAll(async () => {
-  baseUrl()
-  testDatabase()
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await closeBrowser()
-  await closeTestDatabase()
-})
+const opened = useBrowser()
 
 const NUMBERS: Record<string, string> = { farm_size_ha: '3.2', household_size: '5', schooling_years: '8', age_head: '38', dealer_distance_km: '6.5', livestock_tlu: '0.8' }
 const YESNO: Record<string, boolean> = { adopted: true, female_head: true, extension_contact: false, group_member: true, owns_phone: true }
@@ -67,7 +56,7 @@ describe('conditions and several answers on a tablet with no network', () => {
     const enumerator = await User.findOne({ where: { email: demoUser('enumerator').email } })
     const assignments = await Assignment.findAll({ where: { userId: enumerator!.id } })
     const village = await Village.findByPk(assignments[0]!.villageId)
-    const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
+    const context = await newTabletContext(opened.browser, { serviceWorkers: 'allow' })
     await context.grantPermissions(['geolocation'])
     await context.setGeolocation({ latitude: village!.centreLat, longitude: village!.centreLon, accuracy: 6 })
     const page = await context.newPage()
@@ -134,7 +123,7 @@ describe('conditions and several answers on a tablet with no network', () => {
     await context.close()
 
     // The coordinator's review shows the answers as words, and "Not asked" where the condition hid the question.
-    const desk = await newTabletContext(browser)
+    const desk = await newTabletContext(opened.browser)
     const review = await desk.newPage()
     await signIn(review, 'coordinator', `/review?roundId=${first.roundId}`)
     const openFarm = async (code: string) => {
@@ -164,7 +153,7 @@ describe('conditions and several answers on a tablet with no network', () => {
     await api.signIn(demoUser('coordinator').email)
     const created = await api.post<{ id: number }>('/api/rounds', { name: `Builder round ${Date.now().toString(36)}`, technology: 'hermetic storage bags', season: '2027 long rains' })
     expect(created.status).toBe(200)
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     await signIn(page, 'coordinator', `/rounds/${created.body.id}?part=questionnaire`)
     await poll(() => page.getByTestId('builder-question').count()).toBe(1)
@@ -233,7 +222,7 @@ describe('conditions and several answers on a tablet with no network', () => {
     const answered = accepted.filter(v => typeof v.answers.credit_source === 'string').length
     const notAsked = accepted.filter(v => v.notAsked?.includes('credit_source')).length
     expect(notAsked).toBeGreaterThan(500)
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     await signIn(page, 'coordinator', `/models?round=${demoRound!.id}`)
     const terms = page.getByTestId('several-terms-heard_from')

@@ -1,30 +1,18 @@
 import path from 'node:path'
-import type { Browser, Page } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import type { Page } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
 import { Assignment, QuestionnaireVersion, Round, User, Village, Visit } from '../../server/db/models'
-import { closeTestDatabase, testDatabase } from '../support/database'
-import { SCREENSHOTS, closeBrowser, launchBrowser, newTabletContext } from '../support/browser'
+import { SCREENSHOTS, newTabletContext } from '../support/browser'
 import { openFieldStore } from '../support/field-pin'
-import { signInPage } from '../support/pages'
-import { baseUrl, demoUser, freshClient } from '../support/server'
+import { poll, signInPage, useBrowser } from '../support/pages'
+import { demoUser, freshClient } from '../support/server'
 
 // The demo questionnaire's plots on a tablet with no network: two plots added, a row's missing answer named for that
 // row and field, one plot removed, the visit saved and synced once back online; review shows the remaining plot and a
 // coordinator corrects it (the correction reads row by row). Then the builder adds a group, and the model page fits
 // a plot-level model on the demo's plots.
 
-let browser: Browser
-const poll = <T>(check: () => T | Promise<T>, timeout = 10_000) => expect.poll(check, { timeout })
-
-beforeAll(async () => {
-  baseUrl()
-  testDatabase()
-  browser = await launchBrowser()
-})
-afterAll(async () => {
-  await closeBrowser()
-  await closeTestDatabase()
-})
+const opened = useBrowser()
 
 const NUMBERS: Record<string, string> = { farm_size_ha: '2.0', household_size: '5', schooling_years: '8', age_head: '38', dealer_distance_km: '6.5', livestock_tlu: '0.8' }
 const YESNO: Record<string, boolean> = { adopted: true, female_head: false, extension_contact: false, credit_access: false, group_member: true, owns_phone: true }
@@ -40,7 +28,7 @@ describe('plots on a tablet with no network, then review', () => {
     const enumerator = await User.findOne({ where: { email: demoUser('enumerator').email } })
     const assignments = await Assignment.findAll({ where: { userId: enumerator!.id } })
     const village = await Village.findByPk(assignments[0]!.villageId)
-    const context = await newTabletContext(browser, { serviceWorkers: 'allow' })
+    const context = await newTabletContext(opened.browser, { serviceWorkers: 'allow' })
     await context.grantPermissions(['geolocation'])
     await context.setGeolocation({ latitude: village!.centreLat, longitude: village!.centreLon, accuracy: 6 })
     const page = await context.newPage()
@@ -110,7 +98,7 @@ describe('plots on a tablet with no network, then review', () => {
     await context.close()
 
     // Review: the remaining plot as a table; a correction of its size, read back row by row.
-    const desk = await newTabletContext(browser)
+    const desk = await newTabletContext(opened.browser)
     const review = await desk.newPage()
     await signIn(review, 'coordinator', `/review?roundId=${stored!.roundId}`)
     await review.getByLabel('Farm code').fill(farmCode)
@@ -141,7 +129,7 @@ describe('plots on a tablet with no network, then review', () => {
     await api.signIn(demoUser('coordinator').email)
     const created = await api.post<{ id: number }>('/api/rounds', { name: `Plots round ${Date.now().toString(36)}`, technology: 'mulch ripping', season: '2027 long rains' })
     expect(created.status).toBe(200)
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     await signIn(page, 'coordinator', `/rounds/${created.body.id}?part=questionnaire`)
     await poll(() => page.getByTestId('builder-question').count()).toBe(1)
@@ -170,7 +158,7 @@ describe('plots on a tablet with no network, then review', () => {
   })
 
   it('fits a plot-level model on the demo\'s plots from the model page and says how many rows it keeps', async () => {
-    const context = await newTabletContext(browser)
+    const context = await newTabletContext(opened.browser)
     const page = await context.newPage()
     const demoRound = await Round.findOne({ where: { name: 'Sorghum seed adoption, 2026 short rains' } })
     await signIn(page, 'coordinator', `/models?round=${demoRound!.id}`)
