@@ -18,6 +18,7 @@ async function fit(request: FitRequest): Promise<FitReply> {
     return {
       ok: true,
       results: runModel(request.data, request.spec, {
+        arrayBuffer: helpers ? bytes => new SharedArrayBuffer(bytes) : undefined,
         parallel: (design, link) => (helpers && design.n >= PARALLEL_MIN_ROWS ? helpers.attach(design, link) : null)
       })
     }

@@ -47,7 +47,9 @@ interface Shared {
   results: SharedArrayBuffer
 }
 
+/** The array's shared buffer: the design's own when it was built in shared memory (see fit.worker.ts), else a copy. */
 function sharedCopy(a: Float64Array | Int32Array): SharedArrayBuffer {
+  if (a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0 && a.byteLength === a.buffer.byteLength) return a.buffer
   const sab = new SharedArrayBuffer(a.byteLength)
   new Uint8Array(sab).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength))
   return sab

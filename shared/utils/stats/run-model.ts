@@ -6,7 +6,7 @@
  */
 import { ascendingOrder, classificationTable, hosmerLemeshow, rocCurve } from './classification'
 import { computeCovariance, type Covariance } from './covariance'
-import { buildDesign, type Design } from './design'
+import { buildDesign, type Design, type DesignOptions } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
 import { fitBinary } from './fit'
 import type { LinkName } from './links'
@@ -53,6 +53,11 @@ export interface RunOptions {
    * engine is pure: threads are the host's, injected here; the single-thread path is the default.
    */
   parallel?: (design: Design, link: LinkName) => ParallelPasses | null
+  /**
+   * Where the design's arrays live (see DesignOptions): the host gives shared memory when it will split the passes
+   * across threads, so they read the design itself instead of a copy.
+   */
+  arrayBuffer?: DesignOptions['arrayBuffer']
 }
 
 export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions = {}): ModelResults {
@@ -101,7 +106,7 @@ function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment
   if (treatment === 'survey' && !spec.weights) throw new EngineInputError('invalid_spec', 'a survey design needs the probability weights column')
   if (treatment !== 'survey' && (spec.strata || spec.fpc)) throw new EngineInputError('invalid_spec', 'strata and fpc belong to the survey design; choose it as the village treatment')
   const t0 = now()
-  const design = buildDesign(data, spec)
+  const design = buildDesign(data, spec, { arrayBuffer: options.arrayBuffer })
   const t1 = now()
   const parallel = options.parallel?.(design, spec.link ?? 'probit') ?? null
   const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations, parallel })
