@@ -50,55 +50,6 @@ export async function linkVisitsToFarms(scope: LinkScope, transaction?: Transact
   return unlinked.map(r => r.id)
 }
 
-/** A registered farm as sync needs it: its id, home village and that village's name (for the flag). */
-export interface RegisteredFarm {
-  id: number
-  villageId: number
-  villageName: string
-}
-
-/**
- * Sync's way in (the visits are not stored yet): registers the codes not yet known, each with the village of its
- * earliest visit among `visits`, and returns every code's farm, so the batch's own INSERT sets `farm_id` and the
- * `farmInOtherVillage` flag (`farmLinkOf`). Linking after the commit, as imports and corrections do, had written
- * every synced row twice: MariaDB's cost per stored visit went from 0.14 to 0.30–0.43 CPU-s per 1,000.
- * Runs before the batch's transaction, in statements of their own (a code registered by a batch that then fails
- * stays registered, which is what its resend needs); codes in order, so concurrent batches lock them in one order.
- */
-export async function registerFarms(organisationId: number, visits: ReadonlyArray<{ id: string, farmCode: string, villageId: number, savedAt: string }>): Promise<Map<string, RegisteredFarm>> {
-  const earliest = new Map<string, { villageId: number, savedAt: string, id: string }>()
-  for (const v of visits) {
-    const known = earliest.get(v.farmCode)
-    if (!known || v.savedAt < known.savedAt || (v.savedAt === known.savedAt && v.id < known.id)) earliest.set(v.farmCode, v)
-  }
-  const codes = [...earliest.keys()].sort()
-  if (!codes.length) return new Map()
-  // Codes are matched as MariaDB matches them (the column's collation ignores case and accents), so each asked code
-  // comes back with the farm it names, whatever spelling the farm was registered under.
-  const read = async (wanted: string[]) => database().query<{ asked: string, id: number, villageId: number, villageName: string }>(
-    `SELECT c.asked, f.id, f.village_id AS villageId, h.name AS villageName
-    FROM JSON_TABLE(?, '$[*]' COLUMNS (asked VARCHAR(40) CHARACTER SET utf8mb4 PATH '$')) c
-    JOIN farms f ON f.organisation_id = ? AND f.code = c.asked COLLATE utf8mb4_unicode_ci
-    JOIN villages h ON h.id = f.village_id`, { replacements: [JSON.stringify(wanted), organisationId], type: QueryTypes.SELECT })
-  const farms = new Map((await read(codes)).map(f => [f.asked, { id: Number(f.id), villageId: Number(f.villageId), villageName: f.villageName }]))
-  const missing = codes.filter(c => !farms.has(c))
-  if (missing.length) {
-    const rows = missing.map(c => [organisationId, c, earliest.get(c)!.villageId])
-    // A code another batch registered meanwhile keeps its village (the first stored wins). Ids are read back,
-    // never inferred from the insert (Galera's auto-increment steps).
-    await database().query(`INSERT INTO farms (organisation_id, code, village_id, created_at, updated_at) VALUES ${rows.map(() => '(?, ?, ?, NOW(3), NOW(3))').join(', ')}
-      ON DUPLICATE KEY UPDATE farms.id = farms.id`, { replacements: rows.flat(), type: QueryTypes.INSERT })
-    for (const f of await read(missing)) farms.set(f.asked, { id: Number(f.id), villageId: Number(f.villageId), villageName: f.villageName })
-  }
-  return farms
-}
-
-/** What a visit of this village and farm code stores: linked to its farm, or flagged with the farm's home village. */
-export function farmLinkOf(farm: RegisteredFarm | undefined, villageId: number): { farmId: number | null, otherVillage: string | null } {
-  if (!farm) return { farmId: null, otherVillage: null }
-  return farm.villageId === villageId ? { farmId: farm.id, otherVillage: null } : { farmId: null, otherVillage: farm.villageName }
-}
-
 /** One earlier (or later) visit of the same registered farm, as review shows it. */
 export interface FarmRoundVisit {
   visitId: string

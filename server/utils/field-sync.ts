@@ -6,7 +6,7 @@ import { fieldErrorsOf } from '#shared/utils/zod-errors'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'
 import { erasedAmong } from './erasure'
-import { type RegisteredFarm, farmLinkOf, registerFarms } from './farm-register'
+import { linkVisitsToFarms } from './farm-register'
 import { intrinsicFlags } from './visit-flags'
 
 interface Actor { id: number, organisationId: number }
@@ -42,9 +42,8 @@ export function serverCopyOf(visit: Visit): ServerVisit {
   }
 }
 
-function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string, notAsked: string[], farm: RegisteredFarm | undefined) {
+function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string, notAsked: string[]) {
   const where = v.location
-  const { farmId, otherVillage } = farmLinkOf(farm, v.villageId)
   return {
     id: v.id,
     organisationId: actor.organisationId,
@@ -65,8 +64,7 @@ function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string,
     adopted: adoptedOf(v.answers),
     reviewState: 'received' as const,
     reviewReason: null,
-    flags: otherVillage === null ? flags : { ...flags, farmInOtherVillage: otherVillage },
-    farmId,
+    flags,
     deviceHash: hash,
     deviceId: null as string | null
   }
@@ -150,16 +148,15 @@ async function withConflictRetry<T>(work: () => Promise<T>, attempts = 5): Promi
 export async function ingestVisits(actor: Actor, records: unknown[]): Promise<SyncAnswer> {
   const { checked: all, ctx } = await checkRecords(actor, records)
   const checked = await withoutErasedFarms(actor, all)
-  // The batch's farm codes registered first, so its INSERT links each visit to its farm (farm-register.ts).
-  const farms = await withConflictRetry(() => registerFarms(actor.organisationId, checked.flatMap(c => 'input' in c ? [c.input] : [])))
   const settings = { farRadiusKm: serverConfig().FIELD_FAR_RADIUS_KM, minInterviewSeconds: serverConfig().FIELD_MIN_INTERVIEW_SECONDS }
   const results = await withConflictRetry(() => database().transaction(
     { isolationLevel: Transaction.ISOLATION_LEVELS.READ_COMMITTED },
-    t => writeBatch(actor, checked, ctx, farms, settings, t)))
+    t => writeBatch(actor, checked, ctx, settings, t)))
   // Idempotent and run for every valid record, stored or not: if it fails, the device's resend (all duplicates)
   // runs it again, so no flag is lost to a crash between the commit and here.
   const valid = checked.flatMap(c => 'input' in c && results[c.index]?.status !== 'rejected' ? [c.input] : [])
   await withConflictRetry(() => flagDuplicateFarmCodes(valid))
+  await withConflictRetry(() => linkVisitsToFarms({ organisationId: actor.organisationId, roundIds: valid.map(v => v.roundId), farmCodes: valid.map(v => v.farmCode) }, undefined, { report: false }))
   const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0, erased: 0 }
   for (const r of results) counts[r.status]++
   return { results, counts }
@@ -180,7 +177,7 @@ async function withoutErasedFarms(actor: Actor, checked: Checked[]): Promise<Che
     : c)
 }
 
-async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnType<typeof loadContext>>, farms: Map<string, RegisteredFarm>, settings: { farRadiusKm: number, minInterviewSeconds: number }, transaction: Transaction): Promise<SyncResult[]> {
+async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnType<typeof loadContext>>, settings: { farRadiusKm: number, minInterviewSeconds: number }, transaction: Transaction): Promise<SyncResult[]> {
   const results: SyncResult[] = checked.map(c => 'result' in c ? c.result : { id: c.input.id, status: 'stored' })
   // The first record of an id in the batch counts; a later one is a duplicate or, with other content, rejected.
   const first = new Map<string, Valid>()
@@ -212,7 +209,7 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
       { lat: v.location.lat ?? null, lon: v.location.lon ?? null, startedAt: v.startedAt, savedAt: v.savedAt, answers: v.answers },
       ctx.villages.get(v.villageId), questions, settings)
     // The schema refused answers to hidden questions; what its conditions hid is stored as "not asked".
-    return columnsOf(v, actor, flags, c.hash, notAskedKeys(questions, v.answers), farms.get(v.farmCode))
+    return columnsOf(v, actor, flags, c.hash, notAskedKeys(questions, v.answers))
   }
   const inserts = []
   for (const c of valid) {
@@ -246,7 +243,7 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
 
 const INSERT_COLUMNS = ['id', 'device_id', 'organisation_id', 'round_id', 'village_id', 'enumerator_id', 'questionnaire_version_id', 'farm_code',
   'lat', 'lon', 'accuracy_m', 'manual_location_reason', 'answers', 'not_asked', 'consent_at', 'started_at', 'saved_at', 'adopted',
-  'review_state', 'review_reason', 'flags', 'farm_id', 'device_hash', 'version', 'created_at', 'updated_at'] as const
+  'review_state', 'review_reason', 'flags', 'device_hash', 'version', 'created_at', 'updated_at'] as const
 
 /**
  * One plain multi-row INSERT. Written by hand rather than through bulkCreate, which builds, validates and
@@ -257,7 +254,7 @@ async function insertVisits(rows: Array<ReturnType<typeof columnsOf>>, transacti
   const now = new Date()
   const values = rows.flatMap(r => [r.id, r.deviceId, r.organisationId, r.roundId, r.villageId, r.enumeratorId, r.questionnaireVersionId, r.farmCode,
     r.lat, r.lon, r.accuracyM, r.manualLocationReason, JSON.stringify(r.answers), r.notAsked ? JSON.stringify(r.notAsked) : null, r.consentAt, r.startedAt, r.savedAt, r.adopted,
-    r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.farmId, r.deviceHash, 1, now, now])
+    r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.deviceHash, 1, now, now])
   const row = `(${INSERT_COLUMNS.map(() => '?').join(', ')})`
   await database().query(`INSERT INTO visits (${INSERT_COLUMNS.join(', ')}) VALUES ${rows.map(() => row).join(', ')}`, {
     replacements: values, transaction, type: QueryTypes.INSERT

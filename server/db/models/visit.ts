@@ -47,8 +47,6 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
   declare importId: CreationOptional<number | null>
   /** Set when the retention purge replaced the farm code by its pseudonym and dropped free-text answers. */
   declare namesPurgedAt: CreationOptional<Date | null>
-  /** The registered farm of its farm code (migration 0240), null while unlinked (farm of another village). */
-  declare farmId: CreationOptional<number | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 
@@ -80,7 +78,6 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
       source: { type: DataTypes.ENUM(...VISIT_SOURCES), allowNull: false, defaultValue: 'device' },
       importId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       namesPurgedAt: { type: DataTypes.DATE(3), allowNull: true },
-      farmId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE
     }, { sequelize, tableName: 'visits' })
