@@ -19,7 +19,7 @@ export interface LinkScope {
 /**
  * Registers the codes not yet known (home village = the village of the code's earliest visit among these) and links
  * the visits of these rounds with these codes, flagging those whose village differs from the farm's home village.
- * Idempotent. Used by the CSV import and a reviewer's farm-code correction; sync links in its own INSERT (below).
+ * Idempotent: sync runs it again on every resend, so a crash between the batch's commit and here loses nothing.
  * Returns the ids of the visits left unlinked for their village (unless `report` is false: sync needs none).
  */
 export async function linkVisitsToFarms(scope: LinkScope, transaction?: Transaction, options: { report?: boolean } = {}): Promise<string[]> {
