@@ -52,6 +52,29 @@ describe('fits in a worker thread', () => {
     expect(reply.error.code).toMatch(/constant/)
   })
 
+  it('gives on both cores, with the design built in shared memory, the numbers one thread gives', async () => {
+    // Above the pass pool's threshold (PARALLEL_MIN_ROWS), so the worker builds the design in SharedArrayBuffers and
+    // its helper threads read it in place; the in-process run is the plain single-thread engine.
+    const n = 120_000
+    let seed = 11
+    const random = () => (seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648
+    const x1 = Float64Array.from({ length: n }, () => random() * 4 - 2)
+    const x2 = Float64Array.from({ length: n }, () => random())
+    const village = Array.from({ length: n }, (_, i) => `V${i % 300}`)
+    const y = Float64Array.from(x1, (v, i) => (0.6 * v - 0.8 * x2[i]! + (random() - 0.5) * 3 > 0 ? 1 : 0))
+    const big = { outcome: 'y', covariates: [{ name: 'x1', type: 'numeric' as const }, { name: 'x2', type: 'numeric' as const }], link: 'probit' as const, se: 'cluster' as const, cluster: 'village' }
+    const reply = await runFitInWorker({ y, x1, x2, village }, big, options)
+    expect(reply.ok).toBe(true)
+    if (!reply.ok) return
+    const local = runModel({ y, x1, x2, village }, big)
+    expect(reply.results.coefficients).toHaveLength(3)
+    reply.results.coefficients.forEach((c, j) => {
+      expect(Math.abs(c.estimate - local.coefficients[j]!.estimate)).toBeLessThan(1e-10)
+      expect(Math.abs(c.se! - local.coefficients[j]!.se!)).toBeLessThan(1e-10)
+    })
+    expect(reply.results.margins!.effects.map(e => e.estimate)).toEqual(local.margins!.effects.map(e => expect.closeTo(e.estimate, 10)))
+  }, 120_000)
+
   it('keeps the calling thread responsive during a large fit', async () => {
     const n = 200_000
     let seed = 7
