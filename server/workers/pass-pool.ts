@@ -48,7 +48,7 @@ interface Shared {
 }
 
 /** The array's shared buffer: the design's own when it was built in shared memory (see fit.worker.ts), else a copy. */
-function sharedCopy(a: Float64Array | Int32Array): SharedArrayBuffer {
+function sharedBufferOf(a: Float64Array | Int32Array): SharedArrayBuffer {
   if (a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0 && a.byteLength === a.buffer.byteLength) return a.buffer
   const sab = new SharedArrayBuffer(a.byteLength)
   new Uint8Array(sab).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength))
@@ -176,8 +176,8 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
       const slot = Math.max(2 + k + k * k, G * k, 1 + m + m * k)
       const shared: Shared = {
         n: design.n, k, G, m, slot, blocks, link: linkName, plan: design.plan,
-        X: sharedCopy(design.X), y: sharedCopy(design.y), w: design.w ? sharedCopy(design.w) : null,
-        cluster: design.cluster ? sharedCopy(design.cluster) : null,
+        X: sharedBufferOf(design.X), y: sharedBufferOf(design.y), w: design.w ? sharedBufferOf(design.w) : null,
+        cluster: design.cluster ? sharedBufferOf(design.cluster) : null,
         control: control.buffer as SharedArrayBuffer, params: new SharedArrayBuffer(2 * k * 8), results: new SharedArrayBuffer(threads * slot * 8)
       }
       const mine = designOf(shared)

@@ -339,11 +339,6 @@ function fillCovariate(X: Float64Array, k: number, n: number, rowIndex: Int32Arr
   }
 }
 
-/**
- * Builds the design for `spec` from row- or column-oriented data.
- * Throws `EngineInputError` for unknown variables, unreadable values, a non-binary or
- * constant outcome, invalid weights, or fewer rows than parameters.
- */
 export interface DesignOptions {
   /**
    * Makes the buffer behind X, y, w and the cluster codes (default: a plain ArrayBuffer). A host that splits the
@@ -353,8 +348,13 @@ export interface DesignOptions {
   arrayBuffer?: (bytes: number) => ArrayBufferLike
 }
 
+/**
+ * Builds the design for `spec` from row- or column-oriented data.
+ * Throws `EngineInputError` for unknown variables, unreadable values, a non-binary or
+ * constant outcome, invalid weights, or fewer rows than parameters.
+ */
 export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOptions = {}): Design {
-  const floats = (length: number) => options.arrayBuffer ? new Float64Array(options.arrayBuffer(length * 8)) : new Float64Array(length)
+  const buffer = (bytes: number) => options.arrayBuffer?.(bytes) ?? new ArrayBuffer(bytes)
   const acc = accessData(data)
   validateSpec(spec, acc)
   const N = acc.nRows
@@ -455,8 +455,8 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   }
 
   // Fill X column by column (no per-row objects), then y, w, cluster. Same values as `fillRow` gives.
-  const X = floats(n * kFull)
-  const y = floats(n)
+  const X = new Float64Array(buffer(n * kFull * 8))
+  const y = new Float64Array(buffer(n * 8))
   // Plain numeric covariates held in typed arrays are copied row by row in one sweep (X is written
   // sequentially, once); the others column by column.
   const plain = covs.filter(c => c.type === 'numeric' && !c.transform && !c.square && typedColumn(data, c.name))
@@ -493,7 +493,7 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   }
   let w: Float64Array | null = null
   if (spec.weights) {
-    w = floats(n)
+    w = new Float64Array(buffer(n * 8))
     const get = acc.column(spec.weights)
     for (let r = 0; r < n; r++) {
       const v = toNumber(get(rowIndex[r]!), spec.weights, rowIndex[r]!)
@@ -505,7 +505,7 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   let clusterLabels: string[] = []
   if (spec.cluster) {
     const typed = typedColumn(data, spec.cluster)
-    cluster = options.arrayBuffer ? new Int32Array(options.arrayBuffer(n * 4)) : new Int32Array(n)
+    cluster = new Int32Array(buffer(n * 4))
     const coded = Array.isArray(data) ? null : (data as Record<string, unknown>)[spec.cluster]
     if (isCodedColumn(coded)) {
       // Coded text: labels from the levels the rows use, indices through a code → index table.
