@@ -1,5 +1,6 @@
 import { QueryTypes, type Transaction } from 'sequelize'
 import { database } from '../db/connection'
+import { normalisedFarmCode } from './pseudonyms'
 
 // The farm register (migration 0240): every farm code of an organisation is one registered farm with a home
 // village, so a farm visited in several rounds is recognised as the same farm. A visit is linked to the farm of its
@@ -9,6 +10,50 @@ import { database } from '../db/connection'
 // two villages) than a farm that moved, so the visit is stored but NOT linked, and flagged `farmInOtherVillage`
 // (the home village's name) for a reviewer, who corrects the farm code or accepts it unlinked. Refusing it instead
 // would lose an interview done in good faith on a tablet that may not sync again for days.
+//
+// Sync registers a batch's codes BEFORE its transaction (farmsOfCodes) and writes farm_id and the flag in the batch's
+// own INSERT; import and review corrections link what is already stored (linkVisitsToFarms).
+
+/** A registered farm as a visit's link needs it: its id and its home village. */
+export interface RegisteredFarm {
+  id: number
+  villageId: number
+  villageName: string
+}
+
+async function registeredFarms(organisationId: number, codes: string[]): Promise<Map<string, RegisteredFarm>> {
+  const rows = await database().query<RegisteredFarm & { code: string }>(`SELECT f.id, f.code, f.village_id AS villageId, h.name AS villageName
+    FROM farms f JOIN villages h ON h.id = f.village_id WHERE f.organisation_id = ? AND f.code IN (?)`,
+  { replacements: [organisationId, codes], type: QueryTypes.SELECT })
+  return new Map(rows.map(({ code, ...farm }) => [normalisedFarmCode(code), farm]))
+}
+
+/**
+ * The registered farm of each code of these visits (keyed by normalisedFarmCode), registering the codes not yet known
+ * first, each with the village of its first visit in the order given as its home village. Idempotent, and outside
+ * any transaction: a concurrent batch registering the same code keeps the first registration.
+ *
+ * The codes are looked up with \`code IN (…)\` on the (organisation_id, code) index and paired here by the collation's
+ * rule (case and surrounding spaces ignored; codes are ASCII by their schema). Joining a list of codes built inside
+ * SQL (JSON_TABLE) to farms could not use that index, and doubled MariaDB's cost per synced visit.
+ */
+export async function farmsOfCodes(organisationId: number, visits: Array<{ farmCode: string, villageId: number }>): Promise<Map<string, RegisteredFarm>> {
+  const homes = new Map<string, { code: string, villageId: number }>()
+  for (const v of visits) {
+    const key = normalisedFarmCode(v.farmCode)
+    if (!homes.has(key)) homes.set(key, { code: v.farmCode, villageId: v.villageId })
+  }
+  if (!homes.size) return new Map()
+  const farms = await registeredFarms(organisationId, [...homes.values()].map(h => h.code))
+  // In key order, so two batches registering some of the same codes take their locks in the same order.
+  const missing = [...homes].filter(([key]) => !farms.has(key)).sort(([a], [b]) => a < b ? -1 : a > b ? 1 : 0).map(([, home]) => home)
+  if (!missing.length) return farms
+  await database().query(`INSERT INTO farms (organisation_id, code, village_id, created_at, updated_at)
+    VALUES ${missing.map(() => '(?, ?, ?, NOW(3), NOW(3))').join(', ')} ON DUPLICATE KEY UPDATE farms.id = farms.id`,
+  { replacements: missing.flatMap(h => [organisationId, h.code, h.villageId]), type: QueryTypes.INSERT })
+  for (const [key, farm] of await registeredFarms(organisationId, missing.map(h => h.code))) farms.set(key, farm)
+  return farms
+}
 
 export interface LinkScope {
   organisationId: number

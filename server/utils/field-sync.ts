@@ -6,7 +6,8 @@ import { fieldErrorsOf } from '#shared/utils/zod-errors'
 import { Assignment, QuestionnaireVersion, Round, Village, Visit, type VisitFlags } from '../db/models'
 import { database } from '../db/connection'
 import { erasedAmong } from './erasure'
-import { linkVisitsToFarms } from './farm-register'
+import { type RegisteredFarm, farmsOfCodes } from './farm-register'
+import { normalisedFarmCode } from './pseudonyms'
 import { intrinsicFlags } from './visit-flags'
 
 interface Actor { id: number, organisationId: number }
@@ -42,8 +43,10 @@ export function serverCopyOf(visit: Visit): ServerVisit {
   }
 }
 
-function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string, notAsked: string[]) {
+function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string, notAsked: string[], farm: RegisteredFarm | undefined) {
   const where = v.location
+  // Linked to its registered farm, unless the farm's home village is another one: then unlinked and flagged.
+  const atHome = !farm || farm.villageId === v.villageId
   return {
     id: v.id,
     organisationId: actor.organisationId,
@@ -64,7 +67,8 @@ function columnsOf(v: VisitInput, actor: Actor, flags: VisitFlags, hash: string,
     adopted: adoptedOf(v.answers),
     reviewState: 'received' as const,
     reviewReason: null,
-    flags,
+    flags: atHome ? flags : { ...flags, farmInOtherVillage: farm.villageName },
+    farmId: farm && atHome ? farm.id : null,
     deviceHash: hash,
     deviceId: null as string | null
   }
@@ -144,19 +148,26 @@ async function withConflictRetry<T>(work: () => Promise<T>, attempts = 5): Promi
  * batches of different devices never block each other's inserts), rows locked and written in id order (two
  * batches sharing ids wait for each other instead of crossing), the version check inside the UPDATE, and the
  * duplicate-farm-code flags, which touch other people's visits, set after the commit in a statement of their own.
+ * The farm register is written before the transaction (new codes only, idempotent), so a code registered by
+ * another batch meanwhile never blocks this one; a farm registered for a record then answered 'conflict' stays
+ * registered without a visit, which no screen or export lists.
  */
 export async function ingestVisits(actor: Actor, records: unknown[]): Promise<SyncAnswer> {
   const { checked: all, ctx } = await checkRecords(actor, records)
   const checked = await withoutErasedFarms(actor, all)
   const settings = { farRadiusKm: serverConfig().FIELD_FAR_RADIUS_KM, minInterviewSeconds: serverConfig().FIELD_MIN_INTERVIEW_SECONDS }
+  const valid = checked.flatMap(c => 'input' in c ? [c.input] : [])
+  // Codes new to the register are registered before the batch's transaction, the earliest saved visit deciding the
+  // home village, so that the batch's own INSERT carries the link (no second pass over the rows after the commit).
+  const earliestFirst = [...valid].sort((a, b) => Date.parse(a.savedAt) - Date.parse(b.savedAt) || (a.id < b.id ? -1 : 1))
+  const farms = await withConflictRetry(() => farmsOfCodes(actor.organisationId, earliestFirst))
   const results = await withConflictRetry(() => database().transaction(
     { isolationLevel: Transaction.ISOLATION_LEVELS.READ_COMMITTED },
-    t => writeBatch(actor, checked, ctx, settings, t)))
+    t => writeBatch(actor, checked, { ...ctx, farms }, settings, t)))
   // Idempotent and run for every valid record, stored or not: if it fails, the device's resend (all duplicates)
   // runs it again, so no flag is lost to a crash between the commit and here.
-  const valid = checked.flatMap(c => 'input' in c && results[c.index]?.status !== 'rejected' ? [c.input] : [])
-  await withConflictRetry(() => flagDuplicateFarmCodes(valid))
-  await withConflictRetry(() => linkVisitsToFarms({ organisationId: actor.organisationId, roundIds: valid.map(v => v.roundId), farmCodes: valid.map(v => v.farmCode) }, undefined, { report: false }))
+  const kept = checked.flatMap(c => 'input' in c && results[c.index]?.status !== 'rejected' ? [c.input] : [])
+  await withConflictRetry(() => flagDuplicateFarmCodes(kept))
   const counts: Record<SyncStatus, number> = { stored: 0, duplicate: 0, rejected: 0, conflict: 0, erased: 0 }
   for (const r of results) counts[r.status]++
   return { results, counts }
@@ -177,7 +188,9 @@ async function withoutErasedFarms(actor: Actor, checked: Checked[]): Promise<Che
     : c)
 }
 
-async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnType<typeof loadContext>>, settings: { farRadiusKm: number, minInterviewSeconds: number }, transaction: Transaction): Promise<SyncResult[]> {
+type BatchContext = Awaited<ReturnType<typeof loadContext>> & { farms: Map<string, RegisteredFarm> }
+
+async function writeBatch(actor: Actor, checked: Checked[], ctx: BatchContext, settings: { farRadiusKm: number, minInterviewSeconds: number }, transaction: Transaction): Promise<SyncResult[]> {
   const results: SyncResult[] = checked.map(c => 'result' in c ? c.result : { id: c.input.id, status: 'stored' })
   // The first record of an id in the batch counts; a later one is a duplicate or, with other content, rejected.
   const first = new Map<string, Valid>()
@@ -209,7 +222,7 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
       { lat: v.location.lat ?? null, lon: v.location.lon ?? null, startedAt: v.startedAt, savedAt: v.savedAt, answers: v.answers },
       ctx.villages.get(v.villageId), questions, settings)
     // The schema refused answers to hidden questions; what its conditions hid is stored as "not asked".
-    return columnsOf(v, actor, flags, c.hash, notAskedKeys(questions, v.answers))
+    return columnsOf(v, actor, flags, c.hash, notAskedKeys(questions, v.answers), ctx.farms.get(normalisedFarmCode(v.farmCode)))
   }
   const inserts = []
   for (const c of valid) {
@@ -243,7 +256,7 @@ async function writeBatch(actor: Actor, checked: Checked[], ctx: Awaited<ReturnT
 
 const INSERT_COLUMNS = ['id', 'device_id', 'organisation_id', 'round_id', 'village_id', 'enumerator_id', 'questionnaire_version_id', 'farm_code',
   'lat', 'lon', 'accuracy_m', 'manual_location_reason', 'answers', 'not_asked', 'consent_at', 'started_at', 'saved_at', 'adopted',
-  'review_state', 'review_reason', 'flags', 'device_hash', 'version', 'created_at', 'updated_at'] as const
+  'review_state', 'review_reason', 'flags', 'farm_id', 'device_hash', 'version', 'created_at', 'updated_at'] as const
 
 /**
  * One plain multi-row INSERT. Written by hand rather than through bulkCreate, which builds, validates and
@@ -254,7 +267,7 @@ async function insertVisits(rows: Array<ReturnType<typeof columnsOf>>, transacti
   const now = new Date()
   const values = rows.flatMap(r => [r.id, r.deviceId, r.organisationId, r.roundId, r.villageId, r.enumeratorId, r.questionnaireVersionId, r.farmCode,
     r.lat, r.lon, r.accuracyM, r.manualLocationReason, JSON.stringify(r.answers), r.notAsked ? JSON.stringify(r.notAsked) : null, r.consentAt, r.startedAt, r.savedAt, r.adopted,
-    r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.deviceHash, 1, now, now])
+    r.reviewState, r.reviewReason, JSON.stringify(r.flags), r.farmId, r.deviceHash, 1, now, now])
   const row = `(${INSERT_COLUMNS.map(() => '?').join(', ')})`
   await database().query(`INSERT INTO visits (${INSERT_COLUMNS.join(', ')}) VALUES ${rows.map(() => row).join(', ')}`, {
     replacements: values, transaction, type: QueryTypes.INSERT

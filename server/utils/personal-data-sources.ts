@@ -247,7 +247,13 @@ const farmRegister: PersonalDataSource = {
   eraseFarm: async ({ organisationId, farmCode, opaqueId, transaction }) => ({
     count: await update('UPDATE farms SET code = ?, updated_at = NOW(3) WHERE organisation_id = ? AND code = ?', [opaqueId, organisationId, farmCode], transaction)
   }),
-  purgeRounds: async ({ organisationId, roundIds, transaction }) => {
+  purgeRounds: async ({ organisationId, roundIds, transaction, now }) => {
+    // Sync registers a batch's codes before storing it, so a batch that then failed, or a record answered 'conflict',
+    // can leave a farm without any visit. Removed once a day old (no sync takes that long between the two steps);
+    // not counted in the report, which counts what the due rounds held.
+    await update(`DELETE f FROM farms f WHERE f.organisation_id = ? AND f.created_at < ? - INTERVAL 1 DAY
+      AND NOT EXISTS (SELECT 1 FROM visits v WHERE v.farm_id = f.id)
+      AND NOT EXISTS (SELECT 1 FROM visits v WHERE v.organisation_id = f.organisation_id AND v.farm_code = f.code)`, [organisationId, now], transaction)
     const farms = await select<{ id: number, code: string }>(`SELECT f.id, f.code FROM farms f WHERE f.organisation_id = ?
       AND EXISTS (SELECT 1 FROM visits v WHERE v.farm_id = f.id AND v.round_id IN (?))
       AND NOT EXISTS (SELECT 1 FROM visits v WHERE v.farm_id = f.id AND v.names_purged_at IS NULL)

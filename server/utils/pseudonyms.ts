@@ -25,16 +25,16 @@ function organisationKey(organisationId: number): Buffer {
 }
 
 /** Farm codes are matched without regard to case or surrounding spaces, as the database's collation does. */
-function normalised(farmCode: string): string {
+export function normalisedFarmCode(farmCode: string): string {
   return farmCode.trim().toLowerCase()
 }
 
 /** The farm's pseudonym in exports: `P-` and 12 hex digits (48 bits: no collision to expect among a programme's farms). */
 export function pseudonymOf(organisationId: number, farmCode: string): string {
-  return `P-${createHmac('sha256', organisationKey(organisationId)).update(`pseudonym:${normalised(farmCode)}`).digest('hex').slice(0, 12)}`
+  return `P-${createHmac('sha256', organisationKey(organisationId)).update(`pseudonym:${normalisedFarmCode(farmCode)}`).digest('hex').slice(0, 12)}`
 }
 
 /** The key an erasure keeps of the farm code (full 256 bits, another purpose string than the pseudonym). */
 export function farmKeyOf(organisationId: number, farmCode: string): string {
-  return createHmac('sha256', organisationKey(organisationId)).update(`erased-farm:${normalised(farmCode)}`).digest('hex')
+  return createHmac('sha256', organisationKey(organisationId)).update(`erased-farm:${normalisedFarmCode(farmCode)}`).digest('hex')
 }

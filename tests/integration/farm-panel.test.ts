@@ -126,6 +126,28 @@ describe('the farm register', () => {
     expect((await Visit.findByPk(elsewhere.id))!.farmCode).toBe(fixed)
   })
 
+  it('registers a batch\'s new code with the village of its earliest saved visit, linking and flagging in the same write', async () => {
+    const code = `PN-${Date.now().toString(36)}`
+    const saved = (minutesAgo: number) => new Date(Date.now() - minutesAgo * 60_000).toISOString()
+    const timing = (minutesAgo: number) => ({ consentAt: saved(minutesAgo + 20), startedAt: saved(minutesAgo + 20), savedAt: saved(minutesAgo) })
+    // Listed first but saved later, in the assigned village; saved earlier (and listed second) in the other village.
+    const later = makeVisit(second, { farmCode: code, ...timing(5) })
+    const earlier = makeVisit(second, { farmCode: code.toLowerCase(), villageId: first.otherVillageId, ...timing(60),
+      location: { kind: 'gps', lat: first.centre.lat + 0.2, lon: first.centre.lon, accuracyM: 5 } })
+    const answer = await sync([later, earlier])
+    expect(answer.body.counts.stored).toBe(2)
+    const farms = await sql<{ id: number, villageId: number }>('SELECT id, village_id AS villageId FROM farms WHERE organisation_id = ? AND code = ?',
+      [(await Round.findByPk(second.roundId))!.organisationId, code])
+    expect(farms.map(f => f.villageId)).toEqual([first.otherVillageId])
+    expect(await farmIdOf(earlier.id)).toBe(farms[0]!.id)
+    expect(await farmIdOf(later.id)).toBeNull()
+    const other = (await Village.findByPk(first.otherVillageId))!
+    expect((await Visit.findByPk(later.id))!.flags.farmInOtherVillage).toBe(other.name)
+    expect((await Visit.findByPk(earlier.id))!.flags.farmInOtherVillage).toBeUndefined()
+    // Two visits of one code in one round are also the duplicate-code flag, set after the commit.
+    expect((await Visit.findByPk(later.id))!.flags.duplicateFarmCode).toBe(true)
+  })
+
   it('keeps an imported row whose farm code belongs to another village in review, flagged', async () => {
     const code = `PI-${Date.now().toString(36)}`
     expect((await sync([makeVisit(first, { farmCode: code })])).body.counts.stored).toBe(1)

@@ -1,4 +1,5 @@
 import { createHash, randomUUID } from 'node:crypto'
+import { QueryTypes } from 'sequelize'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { PrivacyView, RetentionReport } from '../../shared/types/privacy'
 import { AuditEntry, Photo, Round, Visit } from '../../server/db/models'
@@ -96,7 +97,16 @@ describe('retention periods', () => {
   it('replaces farm codes by their export pseudonyms and drops free text when names are due', async () => {
     const before = await pseudonyms()
     await closedDaysAgo(400)
+    // Farms registered by a sync whose batch was then not stored: the one a day old goes with the names, a newer one
+    // (a sync may be between registering and storing) stays.
+    const orphan = (code: string, daysAgo: number) => testDatabase().query(`INSERT INTO farms (organisation_id, code, village_id, created_at, updated_at)
+      VALUES (?, ?, ?, ?, NOW(3))`, { replacements: [org.id, code, round.assignedVillageId, new Date(Date.now() - daysAgo * DAY)] })
+    await orphan('ORPHAN-OLD', 2)
+    await orphan('ORPHAN-NEW', 0)
     expect((await purge()).status).toBe(200)
+    const left = await testDatabase().query<{ code: string }>('SELECT code FROM farms WHERE organisation_id = ? AND code LIKE \'ORPHAN-%\'',
+      { replacements: [org.id], type: QueryTypes.SELECT })
+    expect(left.map(f => f.code)).toEqual(['ORPHAN-NEW'])
     const rows = await Visit.findAll({ where: { roundId: round.roundId } })
     for (const row of rows) {
       expect(row.farmCode).toBe(before.get(row.id))

@@ -38,6 +38,8 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
   declare reviewState: CreationOptional<ReviewState>
   declare reviewReason: string | null
   declare flags: VisitFlags
+  /** The registered farm (migration 0240); null while the farm's home village is another village. */
+  declare farmId: CreationOptional<number | null>
   declare deviceHash: string
   /** The tablet's own id for this visit when the server had to store it under another (migration 0070); else null. */
   declare deviceId: CreationOptional<string | null>
@@ -72,6 +74,7 @@ export class Visit extends Model<InferAttributes<Visit>, InferCreationAttributes
       reviewState: { type: DataTypes.ENUM(...REVIEW_STATES), allowNull: false, defaultValue: 'received' },
       reviewReason: { type: DataTypes.STRING(500), allowNull: true },
       flags: { type: DataTypes.JSON, allowNull: false },
+      farmId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       deviceHash: { type: DataTypes.CHAR(64), allowNull: false },
       deviceId: { type: DataTypes.STRING(36), allowNull: true },
       version: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 1 },
