@@ -1,8 +1,14 @@
 import path from 'node:path'
 import { bundleFitWorker } from './scripts/lib/bundle-fit-worker.mjs'
+import { pagePreloads } from './scripts/lib/page-preloads.mjs'
 
 // Changes with every build, so that a new deployment's tablet shell replaces the precached one.
 const BUILD_ID = String(Date.now())
+
+// The browser-rendered tablet pages whose code the server names in their documents (server/plugins/page-preloads.ts);
+// filled from the client build's manifest, which is written before the server is bundled.
+const PRELOADED_PAGES = ['pages/field/index.vue', 'pages/field/visit.vue']
+let preloads: Record<string, string[]> = {}
 
 // Furrowcast: one Nuxt 4 app serving the tablet (offline PWA), the coordinator's workspace and the funder view.
 export default defineNuxtConfig({
@@ -46,8 +52,16 @@ export default defineNuxtConfig({
     '/field': { ssr: false },
     '/field/**': { ssr: false }
   },
+  // Links fetch their page's code when pointed at or focused, not whenever they are on screen: on a tablet's rural
+  // link the header's links (home, account) had fetched pages nobody opened while the field page waited for its data.
+  experimental: {
+    defaults: { nuxtLink: { prefetchOn: { visibility: false, interaction: true } } }
+  },
   compatibilityDate: '2026-11-01',
   nitro: {
+    virtual: {
+      '#page-preloads': () => `export default ${JSON.stringify(preloads)}`
+    },
     experimental: { tasks: false },
     // Static files are compressed once at build (gzip and brotli beside each file) and served with the encoding
     // the browser accepts: the tablet's first load over a rural link is a third of its raw size.
@@ -63,6 +77,11 @@ export default defineNuxtConfig({
   typescript: {
     strict: true,
     typeCheck: false
+  },
+  hooks: {
+    'build:manifest'(manifest) {
+      preloads = pagePreloads(manifest, PRELOADED_PAGES)
+    }
   },
   eslint: {
     config: {

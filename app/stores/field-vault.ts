@@ -1,5 +1,7 @@
 import { defineStore } from 'pinia'
+import { fieldDbName } from '~/utils/field-db'
 import { lockVault } from '~/utils/field-keys'
+import { fetchSetupAhead } from '~/utils/sync-engine'
 import { TooSoonError, WrongPinError, clearErased, deviceStateOf, eraseLocalStore, isOpen, replacePin, setUpVault, unlockVault, vaultMeta, wasErased } from '~/utils/field-vault'
 
 /** none: no PIN yet on this tablet · locked · open · erased: an admin revoked the tablet and its store is gone. */
@@ -18,6 +20,7 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
   const retryAt = ref(0)
   let userId: number | null = null
   let idleTimer: ReturnType<typeof setTimeout> | undefined
+  let justRegistered = false
 
   const idleMs = () => Math.max(1, Number(useRuntimeConfig().public.fieldIdleLockMinutes) || 5) * 60_000
 
@@ -36,6 +39,8 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
     retryAt.value = meta?.retryAt ?? 0
     status.value = !meta ? 'none' : isOpen(forUser) ? 'open' : 'locked'
     if (status.value === 'open') watchIdle()
+    // A new tablet has nothing stored yet: its setup is fetched while the owner chooses the PIN.
+    if (status.value === 'none' && navigator.onLine) fetchSetupAhead(fieldDbName(forUser))
   }
 
   function onActivity() {
@@ -64,6 +69,8 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
   async function setUp(pin: string) {
     if (userId === null) return
     await setUpVault(userId, pin)
+    // The server registered this tablet a moment ago: the first pass need not ask again whether it was revoked.
+    justRegistered = true
     opened()
   }
 
@@ -133,6 +140,10 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
   /** At every contact: a tablet an admin revoked erases its local copy (no PIN needed, nothing is read). */
   async function checkDevice(): Promise<boolean> {
     if (userId === null || !navigator.onLine) return false
+    if (justRegistered) {
+      justRegistered = false
+      return false
+    }
     if ((await deviceStateOf(userId)) !== 'revoked') return false
     await erase()
     return true

@@ -75,16 +75,18 @@ export function checkPinShape(pin: string): string | null {
 
 /** First set-up, online (after a sign-in): registers the tablet, makes the data key and seals what is already stored. */
 export async function setUpVault(userId: number, pin: string): Promise<void> {
-  const registration = await $fetch<DeviceRegistration>('/api/field/devices', { method: 'POST' })
-  const dataKey = await newDataKey()
   const salt = randomBytes(16)
+  // The registration's round trip and the PIN's key stretching (hundreds of ms of CPU) run side by side.
+  const [registration, byPinKey, dataKey] = await Promise.all([
+    $fetch<DeviceRegistration>('/api/field/devices', { method: 'POST' }), pinKey(pin, salt), newDataKey()
+  ])
   const meta: VaultMeta = {
     v: 1,
     deviceId: registration.deviceId,
     token: registration.token,
     salt: toBase64(salt),
     iterations: PBKDF2_ITERATIONS,
-    byPin: await wrapDataKey(dataKey, await pinKey(pin, salt)),
+    byPin: await wrapDataKey(dataKey, byPinKey),
     byEscrow: await wrapDataKey(dataKey, await escrowKey(registration.escrowKey)),
     failures: 0,
     retryAt: 0,

@@ -83,8 +83,30 @@ export function payloadOf(v: LocalVisit) {
   }
 }
 
-export async function refreshSetup(db: FieldDatabase): Promise<FieldSetup> {
-  const setup = await json<FieldSetup>('/api/field/setup')
+// A new tablet's first setup, asked for while its owner chooses the PIN: the first pass after the PIN takes it
+// instead of asking again, so the 70 KB answer is not fetched only once the key has been stretched (on a rural link
+// that was half a second before the first visit could start). Held in this page's memory only, for one person's
+// store (by its name), and for EARLY_SETUP_MS at most.
+const EARLY_SETUP_MS = 30_000
+let early: { store: string, at: number, answer: Promise<FieldSetup> } | null = null
+
+export function fetchSetupAhead(store: string) {
+  if (early?.store === store && Date.now() - early.at < EARLY_SETUP_MS) return
+  const answer = json<FieldSetup>('/api/field/setup')
+  // A failure here is met again by the pass's own request.
+  answer.catch(() => {})
+  early = { store, at: Date.now(), answer }
+}
+
+function earlySetupFor(store: string): Promise<FieldSetup> | null {
+  const taken = early?.store === store && Date.now() - early.at < EARLY_SETUP_MS ? early.answer : null
+  early = null
+  return taken
+}
+
+export async function refreshSetup(db: FieldDatabase, mayUseEarly = false): Promise<FieldSetup> {
+  const ahead = earlySetupFor(db.name)
+  const setup = (mayUseEarly && ahead ? await ahead.catch(() => null) : null) ?? await json<FieldSetup>('/api/field/setup')
   await db.cache.put({ key: 'setup', value: setup })
   if (!(await db.cache.get('statesSince'))) await db.cache.put({ key: 'statesSince', value: setup.fetchedAt })
   return setup
@@ -194,8 +216,9 @@ export async function syncOnce(db: FieldDatabase, progress: (p: SyncProgress) =>
   const summary: SyncSummary = { sent: 0, stored: 0, conflicts: 0, rejected: 0, photos: 0, erased: 0 }
   progress({ phase: 'setup', done: 0, total: 1 })
   // Non-interviews of listed farms first, so the setup read next already shows them as the server holds them.
-  await pushSampleOutcomes(db, call)
-  await refreshSetup(db)
+  const outcomesSent = await pushSampleOutcomes(db, call)
+  // A setup fetched ahead is older than outcomes just sent: then it is asked for again.
+  await refreshSetup(db, outcomesSent === 0)
   await pushVisits(db, summary, progress)
   await pushPhotos(db, summary, progress)
   progress({ phase: 'states', done: 0, total: 1 })

@@ -4,7 +4,7 @@ import { existsSync, readFileSync, readdirSync, statSync, writeFileSync } from '
 import path from 'node:path'
 import { ROOT, run, say } from './system.mjs'
 
-const SOURCES = ['app', 'server', 'shared', 'public', 'nuxt.config.ts', 'tailwind.config.ts', 'pwa-assets.config.ts', 'package-lock.json', 'scripts/lib/bundle-fit-worker.mjs']
+const SOURCES = ['app', 'server', 'shared', 'public', 'nuxt.config.ts', 'tailwind.config.ts', 'pwa-assets.config.ts', 'package-lock.json', 'scripts/lib/bundle-fit-worker.mjs', 'scripts/lib/page-preloads.mjs']
 const STAMP = path.join(ROOT, '.output', '.source-hash')
 
 function* files(entry) {

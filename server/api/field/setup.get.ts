@@ -1,2 +1,3 @@
 // What a tablet needs to work offline: the enumerator's open rounds, their villages and questionnaires.
-export default defineRoleHandler(['enumerator'], async (_event, user) => fieldSetupFor(user))
+// Compressed when the tablet accepts it: with the sample lists this is the largest answer a tablet waits for.
+export default defineRoleHandler(['enumerator'], async (event, user) => compressedJson(event, await fieldSetupFor(user)))
