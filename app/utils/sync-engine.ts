@@ -84,8 +84,8 @@ export function payloadOf(v: LocalVisit) {
 }
 
 // A new tablet's first setup, asked for while its owner chooses the PIN: the first pass after the PIN takes it
-// instead of asking again, so the 70 KB answer is not fetched only once the key has been stretched (on a rural link
-// that was half a second before the first visit could start). Held in this page's memory only, for one person's
+// instead of asking again, so the answer (70 KB of JSON in the demo) is not fetched only once the key has been stretched
+// (on a rural link that was half a second before the first visit could start). Held in this page's memory only, for one person's
 // store (by its name), and for EARLY_SETUP_MS at most.
 const EARLY_SETUP_MS = 30_000
 let early: { store: string, at: number, answer: Promise<FieldSetup> } | null = null
@@ -104,12 +104,14 @@ function earlySetupFor(store: string): Promise<FieldSetup> | null {
   return taken
 }
 
-export async function refreshSetup(db: FieldDatabase, mayUseEarly = false): Promise<FieldSetup> {
-  const ahead = earlySetupFor(db.name)
-  const setup = (mayUseEarly && ahead ? await ahead.catch(() => null) : null) ?? await json<FieldSetup>('/api/field/setup')
+async function storeSetup(db: FieldDatabase, setup: FieldSetup): Promise<FieldSetup> {
   await db.cache.put({ key: 'setup', value: setup })
   if (!(await db.cache.get('statesSince'))) await db.cache.put({ key: 'statesSince', value: setup.fetchedAt })
   return setup
+}
+
+export async function refreshSetup(db: FieldDatabase): Promise<FieldSetup> {
+  return storeSetup(db, await json<FieldSetup>('/api/field/setup'))
 }
 
 async function pushVisits(db: FieldDatabase, summary: SyncSummary, progress: (p: SyncProgress) => void) {
@@ -215,10 +217,13 @@ async function pullStates(db: FieldDatabase, summary: SyncSummary) {
 export async function syncOnce(db: FieldDatabase, progress: (p: SyncProgress) => void = () => {}): Promise<SyncSummary> {
   const summary: SyncSummary = { sent: 0, stored: 0, conflicts: 0, rejected: 0, photos: 0, erased: 0 }
   progress({ phase: 'setup', done: 0, total: 1 })
-  // Non-interviews of listed farms first, so the setup read next already shows them as the server holds them.
+  // A new tablet's setup fetched ahead is stored first, so the field page can offer a visit at once. Then the
+  // non-interviews of listed farms, before the setup is read, so that it shows them as the server holds them.
+  const ahead = await earlySetupFor(db.name)?.catch(() => null)
+  if (ahead) await storeSetup(db, ahead)
   const outcomesSent = await pushSampleOutcomes(db, call)
-  // A setup fetched ahead is older than outcomes just sent: then it is asked for again.
-  await refreshSetup(db, outcomesSent === 0)
+  // The setup read after the outcomes shows them as the server holds them: asked for again if any were sent.
+  if (!ahead || outcomesSent > 0) await refreshSetup(db)
   await pushVisits(db, summary, progress)
   await pushPhotos(db, summary, progress)
   progress({ phase: 'states', done: 0, total: 1 })
