@@ -1,7 +1,7 @@
 import 'fake-indexeddb/auto'
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { FieldDatabase, type LocalVisit } from '../../app/utils/field-db'
-import { OfflineError, ServerBusyError, SessionExpiredError, retryAfterMsOf, syncOnce } from '../../app/utils/sync-engine'
+import { OfflineError, ServerBusyError, SessionExpiredError, fetchSetupAhead, retryAfterMsOf, syncOnce } from '../../app/utils/sync-engine'
 
 // The tablet's sync pass against a scripted server: what leaves the queue, and when.
 let db: FieldDatabase
@@ -146,5 +146,46 @@ describe('the sync pass', () => {
     expect(retryAfterMsOf('Fri, 20 Nov 2026 09:00:30 GMT', now)).toBe(30_000)
     expect(retryAfterMsOf(null, now)).toBe(5000)
     expect(retryAfterMsOf('soon', now)).toBe(5000)
+  })
+})
+
+describe('a new tablet\'s setup fetched ahead', () => {
+  const AHEAD = { ...SETUP, fetchedAt: '2026-11-20T07:59:00.000Z' }
+  const outcome = { roundId: 1, villageId: 2, farmCode: 'F-9', outcome: 'refused', note: 'Not at home twice', recordedAt: '2026-11-20T08:10:00.000Z' }
+
+  it('is stored by the first pass instead of asking again', async () => {
+    let setups = 0
+    const calls = server({ 'GET /api/field/setup': () => json(++setups === 1 ? AHEAD : SETUP), 'GET /api/sync/visits': states })
+    fetchSetupAhead(db.name)
+    await syncOnce(db)
+    expect(calls).toEqual(['GET /api/field/setup', 'GET /api/sync/visits'])
+    expect((await db.cache.get('setup'))?.value).toEqual(AHEAD)
+    // Taken once: the next pass asks the server.
+    await syncOnce(db)
+    expect(calls.filter(c => c === 'GET /api/field/setup')).toHaveLength(2)
+    expect((await db.cache.get('setup'))?.value).toEqual(SETUP)
+  })
+
+  it('is read again after non-interviews were sent, so it shows them as the server holds them', async () => {
+    await db.cache.put({ key: 'sampleOutcomes', value: [outcome] })
+    let setups = 0
+    const calls = server({
+      'GET /api/field/setup': () => json(++setups === 1 ? AHEAD : SETUP),
+      'POST /api/field/sample-outcomes': () => json({ results: [{ index: 0, status: 'stored' }] }),
+      'GET /api/sync/visits': states
+    })
+    fetchSetupAhead(db.name)
+    await syncOnce(db)
+    expect(calls).toEqual(['GET /api/field/setup', 'POST /api/field/sample-outcomes', 'GET /api/field/setup', 'GET /api/sync/visits'])
+    expect((await db.cache.get('setup'))?.value).toEqual(SETUP)
+  })
+
+  it('is never given to another person\'s store', async () => {
+    let setups = 0
+    const calls = server({ 'GET /api/field/setup': () => json(++setups === 1 ? AHEAD : SETUP), 'GET /api/sync/visits': states })
+    fetchSetupAhead('furrowcast-field-someone-else')
+    await syncOnce(db)
+    expect(calls).toEqual(['GET /api/field/setup', 'GET /api/field/setup', 'GET /api/sync/visits'])
+    expect((await db.cache.get('setup'))?.value).toEqual(SETUP)
   })
 })
