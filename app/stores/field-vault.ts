@@ -20,7 +20,8 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
   const retryAt = ref(0)
   let userId: number | null = null
   let idleTimer: ReturnType<typeof setTimeout> | undefined
-  let justRegistered = false
+  // When this page registered the tablet: the revocation check right after it is skipped (see checkDevice).
+  let registeredAt = 0
 
   const idleMs = () => Math.max(1, Number(useRuntimeConfig().public.fieldIdleLockMinutes) || 5) * 60_000
 
@@ -69,8 +70,7 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
   async function setUp(pin: string) {
     if (userId === null) return
     await setUpVault(userId, pin)
-    // The server registered this tablet a moment ago: the first pass need not ask again whether it was revoked.
-    justRegistered = true
+    registeredAt = Date.now()
     opened()
   }
 
@@ -140,10 +140,11 @@ export const useFieldVaultStore = defineStore('field-vault', () => {
   /** At every contact: a tablet an admin revoked erases its local copy (no PIN needed, nothing is read). */
   async function checkDevice(): Promise<boolean> {
     if (userId === null || !navigator.onLine) return false
-    if (justRegistered) {
-      justRegistered = false
-      return false
-    }
+    // The server registered this tablet a moment ago: the first pass need not ask again whether it was revoked
+    // (one round trip less before a new tablet can start). Skipped once, and only within a minute of it.
+    const fresh = Date.now() - registeredAt < 60_000
+    registeredAt = 0
+    if (fresh) return false
     if ((await deviceStateOf(userId)) !== 'revoked') return false
     await erase()
     return true

@@ -33,7 +33,7 @@ async function registeredFarms(organisationId: number, codes: string[]): Promise
  * first, each with the village of its first visit in the order given as its home village. Idempotent, and outside
  * any transaction: a concurrent batch registering the same code keeps the first registration.
  *
- * The codes are looked up with \`code IN (…)\` on the (organisation_id, code) index and paired here by the collation's
+ * The codes are looked up with `code IN (…)` on the (organisation_id, code) index and paired here by the collation's
  * rule (case and surrounding spaces ignored; codes are ASCII by their schema). Joining a list of codes built inside
  * SQL (JSON_TABLE) to farms could not use that index, and doubled MariaDB's cost per synced visit.
  */

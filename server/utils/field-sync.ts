@@ -149,8 +149,9 @@ async function withConflictRetry<T>(work: () => Promise<T>, attempts = 5): Promi
  * batches sharing ids wait for each other instead of crossing), the version check inside the UPDATE, and the
  * duplicate-farm-code flags, which touch other people's visits, set after the commit in a statement of their own.
  * The farm register is written before the transaction (new codes only, idempotent), so a code registered by
- * another batch meanwhile never blocks this one; a farm registered for a record then answered 'conflict' stays
- * registered without a visit, which no screen or export lists.
+ * another batch meanwhile never blocks this one; a farm registered for a record then answered 'conflict' (or for a
+ * batch that failed) has no visit; the retention purge of names removes such farms once a day old, and an erasure
+ * of the code reaches them like any other.
  */
 export async function ingestVisits(actor: Actor, records: unknown[]): Promise<SyncAnswer> {
   const { checked: all, ctx } = await checkRecords(actor, records)
