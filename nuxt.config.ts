@@ -5,9 +5,9 @@ import { pagePreloads } from './scripts/lib/page-preloads.mjs'
 // Changes with every build, so that a new deployment's tablet shell replaces the precached one.
 const BUILD_ID = String(Date.now())
 
-// The browser-rendered tablet pages whose code the server names in their documents (server/plugins/page-preloads.ts);
-// filled from the client build's manifest, which is written before the server is bundled.
-const PRELOADED_PAGES = ['pages/field/index.vue', 'pages/field/visit.vue']
+// The browser-rendered tablet pages (path → page) whose code the server names in their documents
+// (server/plugins/page-preloads.ts); filled from the client build's manifest, written before the server is bundled.
+const PRELOADED_PAGES = { '/field': 'pages/field/index.vue', '/field/visit': 'pages/field/visit.vue' }
 let preloads: Record<string, string[]> = {}
 
 // Furrowcast: one Nuxt 4 app serving the tablet (offline PWA), the coordinator's workspace and the funder view.

@@ -84,22 +84,25 @@ export function payloadOf(v: LocalVisit) {
 }
 
 // A new tablet's first setup, asked for while its owner chooses the PIN: the first pass after the PIN takes it
-// instead of asking again, so the answer (70 KB of JSON in the demo) is not fetched only once the key has been stretched
-// (on a rural link that was half a second before the first visit could start). Held in this page's memory only, for one person's
-// store (by its name), and for EARLY_SETUP_MS at most.
+// instead of asking again, so the answer (70 KB of JSON in the demo) is not fetched only once the key has been
+// stretched (on a rural link that was half a second before the first visit could start). Held in this page's memory
+// only, for one person's store (by its name), and for EARLY_SETUP_MS at most.
 const EARLY_SETUP_MS = 30_000
 let early: { store: string, at: number, answer: Promise<FieldSetup> } | null = null
 
+const earlyAnswerOf = (store: string) => early?.store === store && Date.now() - early.at < EARLY_SETUP_MS ? early.answer : null
+
 export function fetchSetupAhead(store: string) {
-  if (early?.store === store && Date.now() - early.at < EARLY_SETUP_MS) return
+  if (earlyAnswerOf(store)) return
   const answer = json<FieldSetup>('/api/field/setup')
   // A failure here is met again by the pass's own request.
   answer.catch(() => {})
   early = { store, at: Date.now(), answer }
 }
 
+/** Takes the setup fetched ahead for this store, if any (once: the next pass asks the server). */
 function earlySetupFor(store: string): Promise<FieldSetup> | null {
-  const taken = early?.store === store && Date.now() - early.at < EARLY_SETUP_MS ? early.answer : null
+  const taken = earlyAnswerOf(store)
   early = null
   return taken
 }

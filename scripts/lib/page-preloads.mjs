@@ -3,11 +3,11 @@
 import path from 'node:path'
 
 /**
- * For each page (a manifest key such as `pages/field/index.vue`): its own file and everything it imports statically,
- * in the manifest's order, without what the entry already brings.
+ * For each path, its page's (a manifest key such as `pages/field/index.vue`) own file and everything it imports
+ * statically, in the manifest's order, without what the entry already brings.
  * @param {Record<string, { file?: string, imports?: string[], isEntry?: boolean }>} manifest
- * @param {string[]} pages
- * @returns {Record<string, string[]>}
+ * @param {Record<string, string>} pages path → manifest key of its page
+ * @returns {Record<string, string[]>} path → file names
  */
 export function pagePreloads(manifest, pages) {
   const closure = (key, into) => {
@@ -19,8 +19,8 @@ export function pagePreloads(manifest, pages) {
   const fromEntry = new Set()
   for (const [key, meta] of Object.entries(manifest)) if (meta.isEntry) closure(key, fromEntry)
   const result = {}
-  for (const page of pages) {
-    result[page] = [...closure(page, new Set())]
+  for (const [route, page] of Object.entries(pages)) {
+    result[route] = [...closure(page, new Set())]
       .filter(key => !fromEntry.has(key) && manifest[key].file?.endsWith('.js'))
       .map(key => path.basename(manifest[key].file))
   }
