@@ -126,13 +126,20 @@ export function accumulateRange(
   start: number, end: number, values: Float64Array, jac: Float64Array[]
 ): number {
   const { k, X, w, plan } = design
-  const m = effects.length
+  // Effects whose ∂x/∂(raw covariate) is one fixed column on every row (a plain numeric covariate: no log, square or
+  // interaction) are summed in closed form: the row sums Σ w f and Σ w f' x are shared by all of them, so the pass
+  // costs O(k) per row instead of O(m·k): at 10^5 rows and ten numeric covariates the AME went from about 100 ms to
+  // 10–20 ms on this 2-core machine. The rest go through the general per-row path.
+  const simple = profileAt ? [] : effects.map((ef, e) => (isFixedColumnEffect(plan, ef) ? e : -1)).filter(e => e >= 0)
+  const general = effects.map((_, e) => e).filter(e => !simple.includes(e))
   const prof = emptyProfile(plan)
   const alt = emptyProfile(plan)
   const x = new Float64Array(k)
   const x1 = new Float64Array(k)
   const x0 = new Float64Array(k)
   const dx = new Float64Array(k)
+  const sumFpX = new Float64Array(k)
+  let sumF = 0
   let W = 0
   for (let i = start; i < end; i++) {
     let wi = 1
@@ -144,13 +151,18 @@ export function accumulateRange(
     else {
       wi = w ? w[i]! : 1
       for (let j = 0; j < k; j++) x[j] = X[i * k + j]!
-      readProfile(plan, X, i * k, prof)
+      if (general.length) readProfile(plan, X, i * k, prof)
     }
     W += wi
     const eta = dot(x, b, k)
     const f = link.pdf(eta)
     const fp = link.dpdf(eta)
-    for (let e = 0; e < m; e++) {
+    if (simple.length) {
+      sumF += wi * f
+      const a = wi * fp
+      for (let j = 0; j < k; j++) sumFpX[j]! += a * x[j]!
+    }
+    for (const e of general) {
       const ef = effects[e]!
       const J = jac[e]!
       if (ef.kind === 'derivative') {
@@ -179,7 +191,23 @@ export function accumulateRange(
       }
     }
   }
+  // dx = e_col on every row, so D = b_col: Σ w f D = b_col Σ w f, and ∂/∂b_j of it = b_col Σ w f' x_j + [j = col] Σ w f.
+  for (const e of simple) {
+    const col = plan.covariates[effects[e]!.covariate]!.mainCol
+    const bc = b[col]!
+    const J = jac[e]!
+    values[e]! += bc * sumF
+    for (let j = 0; j < k; j++) J[j]! += bc * sumFpX[j]!
+    J[col]! += sumF
+  }
   return W
+}
+
+/** A derivative effect whose ∂x/∂(raw covariate) is the unit vector of its own column on every row. */
+function isFixedColumnEffect(plan: Design['plan'], ef: EffectPlan): boolean {
+  if (ef.kind !== 'derivative') return false
+  const c = plan.covariates[ef.covariate]!
+  return c.mainCol >= 0 && c.transform !== 'log' && c.squareCol < 0 && !plan.interactions.some(it => it.a === ef.covariate || it.b === ef.covariate)
 }
 
 /** Weighted means of the profile values (the "mean farm"). */
