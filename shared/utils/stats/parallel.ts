@@ -1,15 +1,15 @@
 /**
  * Passes over the rows split across threads, as an injected service: the engine stays pure (no threads, no
  * I/O) and calls these when given them, else its single-thread passes. A host (the CLI, the server's fit
- * worker, the benchmark) provides them over shared memory (scripts/lib/pass-pool.ts); each thread runs the
- * engine's own range kernels (`evaluateRange`, `clusterScoresRange`, `accumulateRange`) on a fixed,
- * contiguous block of rows, and the partial sums are added in block order, so a result depends only on the
- * number of blocks, and differs from the single-thread pass by rounding only (about 1e-15 relative).
+ * worker, the benchmark) provides them over shared memory (server/workers/pass-pool.ts); each thread runs the
+ * engine's own range kernels (`evaluateRange`, `clusterScoresRange`, `accumulateRange`) on contiguous blocks of
+ * rows, and the partial sums are added in block order, so a result depends only on the number of blocks (not on
+ * which thread ran which), and differs from the single-thread pass by rounding only (about 1e-15 relative).
  */
 import type { PassResult } from './likelihood'
 
 export interface ParallelPasses {
-  /** Number of row blocks (threads, the caller's included). */
+  /** Number of row blocks whose partial sums are added (at least the number of threads). */
   readonly blocks: number
   /** The fused pass: ℓ, g and H at b (in shifted coordinates when `shift` is given, see likelihood.ts). */
   evaluate: (b: Float64Array, shift: Float64Array | null) => PassResult
