@@ -5,6 +5,9 @@ export interface FitRequest {
   spec: ModelSpec
 }
 
+/** What the runner posts to a fit worker: a fit, or the warm-up a pooled worker runs before it is first used. */
+export type FitMessage = { id: number, kind: 'fit', request: FitRequest } | { id: number, kind: 'warm-up' }
+
 export interface FitFailure {
   /** 'input': the data or specification cannot be fitted (a 4xx for the user); 'internal': a bug. */
   kind: 'input' | 'internal'
@@ -14,3 +17,9 @@ export interface FitFailure {
 }
 
 export type FitReply = { ok: true, results: ModelResults } | { ok: false, error: FitFailure }
+
+/** The worker's answer to message `id`. */
+export interface FitAnswer {
+  id: number
+  reply: FitReply
+}

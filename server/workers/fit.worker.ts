@@ -1,10 +1,14 @@
-// Runs one model fit off the request thread. Bundled into .output/server/workers/ at build time
-// (see nuxt.config.ts) because the Nitro bundle has no separate file a Worker could load. For large rounds the
-// row passes also use the other cores: helper threads started from this same bundle (see pass-pool.ts).
+// Runs model fits off the request thread. Bundled into .output/server/workers/ at build time (see nuxt.config.ts)
+// because the Nitro bundle has no separate file a Worker could load. For large rounds the row passes also use the
+// other cores: helper threads started from this same bundle (see pass-pool.ts). The runner (fit-runner.ts) keeps a
+// worker for the next fit, so its helpers are started once and stay, idle (blocked on a futex), between fits.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
-import type { FitRequest, FitReply } from './fit-protocol'
+import type { FitAnswer, FitMessage, FitRequest, FitReply } from './fit-protocol'
 import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-pool'
+import { warmUpData, warmUpSpec } from './warm-up'
+
+let helpers: Promise<PassHelpers> | null = null
 
 function rowsOf(data: FitRequest['data']): number {
   if (Array.isArray(data)) return data.length
@@ -13,33 +17,39 @@ function rowsOf(data: FitRequest['data']): number {
 }
 
 async function fit(request: FitRequest): Promise<FitReply> {
-  const helpers: PassHelpers | null = rowsOf(request.data) >= PARALLEL_MIN_ROWS ? await startPassHelpers(new URL(import.meta.url)) : null
+  const passes = rowsOf(request.data) >= PARALLEL_MIN_ROWS ? await (helpers ??= startPassHelpers(new URL(import.meta.url))) : null
   try {
     return {
       ok: true,
       results: runModel(request.data, request.spec, {
-        arrayBuffer: helpers ? bytes => new SharedArrayBuffer(bytes) : undefined,
-        parallel: (design, link) => (helpers && design.n >= PARALLEL_MIN_ROWS ? helpers.attach(design, link) : null)
+        arrayBuffer: passes ? bytes => new SharedArrayBuffer(bytes) : undefined,
+        parallel: (design, link) => (passes && design.n >= PARALLEL_MIN_ROWS ? passes.attach(design, link) : null)
       })
     }
   }
   finally {
-    void helpers?.close()
+    // The helpers let go of this fit's design, so its arrays can be collected while the worker waits for the next.
+    passes?.detach()
+  }
+}
+
+async function answer(message: FitMessage): Promise<FitReply> {
+  try {
+    return await fit(message.kind === 'fit' ? message.request : { data: warmUpData(), spec: warmUpSpec })
+  }
+  catch (error) {
+    return error instanceof EngineInputError
+      ? { ok: false, error: { kind: 'input', code: error.code, message: error.message, variables: error.variables } }
+      : { ok: false, error: { kind: 'internal', code: 'engine_failure', message: error instanceof Error ? error.message : String(error), variables: [] } }
   }
 }
 
 // A pass helper (started by pass-pool.ts from this file) never reaches here: its loop runs at import.
 if (!isMainThread && workerData?.role !== 'furrowcast-pass') {
-  parentPort?.on('message', async (request: FitRequest) => {
-    let reply: FitReply
-    try {
-      reply = await fit(request)
-    }
-    catch (error) {
-      reply = error instanceof EngineInputError
-        ? { ok: false, error: { kind: 'input', code: error.code, message: error.message, variables: error.variables } }
-        : { ok: false, error: { kind: 'internal', code: 'engine_failure', message: error instanceof Error ? error.message : String(error), variables: [] } }
-    }
-    parentPort?.postMessage(reply)
+  parentPort?.on('message', async (message: FitMessage) => {
+    const reply = await answer(message)
+    // The warm-up's results are not needed: only that it ran (and whether it failed).
+    const sent: FitAnswer = { id: message.id, reply: message.kind === 'warm-up' && reply.ok ? { ok: true, results: null as never } : reply }
+    parentPort?.postMessage(sent)
   })
 }

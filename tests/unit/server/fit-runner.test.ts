@@ -3,14 +3,17 @@ import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { bundleFitWorker } from '../../../scripts/lib/bundle-fit-worker.mjs'
-import { runFitInWorker } from '../../../server/utils/fit-runner'
+import { endFitWorkers, keptFitWorkerIds, prepareFitWorker, runFitInWorker } from '../../../server/utils/fit-runner'
 import { runModel } from '../../../shared/utils/stats'
 
 // The same esbuild bundle of the worker that the build puts beside the server.
 const dir = mkdtempSync(path.join(tmpdir(), 'furrowcast-worker-'))
 const options = { workerPath: path.join(dir, 'fit.worker.mjs') }
 beforeAll(() => bundleFitWorker(options.workerPath))
-afterAll(() => rmSync(dir, { recursive: true, force: true }))
+afterAll(async () => {
+  await endFitWorkers()
+  rmSync(dir, { recursive: true, force: true })
+})
 
 // Spector & Mazzeo (1980), as tabulated in Greene, Econometric Analysis; see tests/fixtures/reference/README.md.
 function spector() {
@@ -90,5 +93,57 @@ describe('fits in a worker thread', () => {
     expect(reply.ok).toBe(true)
     expect(ticks).toBeGreaterThan(3)
     // 200,000 rows: the worker also starts its pass helper threads; a loaded machine needs more than 5 s.
+  }, 120_000)
+})
+
+describe('the kept fit worker', () => {
+  function generated(n: number) {
+    let seed = 3
+    const random = () => (seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648
+    const x = Float64Array.from({ length: n }, () => random() * 4 - 2)
+    const y = Float64Array.from(x, v => (v + (random() - 0.5) * 3 > 0 ? 1 : 0))
+    return { y, x }
+  }
+  const plain = { outcome: 'y', covariates: [{ name: 'x', type: 'numeric' as const }], link: 'probit' as const }
+
+  it('is warmed before the first fit, serves it and the next, and gives the numbers the engine gives in-process', async () => {
+    await endFitWorkers()
+    await prepareFitWorker(options.workerPath)
+    const [warmed] = keptFitWorkerIds()
+    expect(warmed).toBeGreaterThan(0)
+    const rows = spector()
+    for (let i = 0; i < 2; i++) {
+      const reply = await runFitInWorker(rows, spec, options)
+      expect(reply.ok && reply.results.coefficients.map(c => c.estimate)).toEqual(runModel(rows, spec).coefficients.map(c => c.estimate))
+      expect(keptFitWorkerIds()).toEqual([warmed])
+    }
+  }, 60_000)
+
+  it('is ended after a large fit and replaced by a fresh one', async () => {
+    await prepareFitWorker(options.workerPath)
+    const [before] = keptFitWorkerIds()
+    const data = generated(210_000)
+    const reply = await runFitInWorker(data, plain, options)
+    expect(reply.ok).toBe(true)
+    await expect.poll(() => keptFitWorkerIds(), { timeout: 30_000 }).toHaveLength(1)
+    expect(keptFitWorkerIds()[0]).not.toBe(before)
+  }, 120_000)
+
+  it('is ended when a fit runs past the timeout, and the next fit is answered by another', async () => {
+    await prepareFitWorker(options.workerPath)
+    const [before] = keptFitWorkerIds()
+    await expect(runFitInWorker(generated(150_000), plain, { ...options, timeoutMs: 1 })).rejects.toThrow(/did not finish within 1 ms/)
+    const reply = await runFitInWorker(spector(), spec, options)
+    expect(reply.ok).toBe(true)
+    expect(keptFitWorkerIds()).not.toContain(before)
+  }, 120_000)
+
+  it('answers two fits at once, each with its own numbers', async () => {
+    const a = generated(20_000)
+    const rows = spector()
+    const [one, two] = await Promise.all([runFitInWorker(a, plain, options), runFitInWorker(rows, spec, options)])
+    expect(one.ok && one.results.coefficients.map(c => c.estimate)).toEqual(runModel(a, plain).coefficients.map(c => c.estimate))
+    expect(two.ok && two.results.coefficients.map(c => c.estimate)).toEqual(runModel(rows, spec).coefficients.map(c => c.estimate))
+    expect(keptFitWorkerIds()).toHaveLength(1)
   }, 120_000)
 })
