@@ -10,7 +10,7 @@ import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
 import { database } from '../db/connection'
 import { QuestionnaireVersion, Round } from '../db/models'
 import type { ExcludedVisits } from '../db/models/model-run'
-import { type ScannedValue, scanAnswers } from './answer-scan'
+import { type ScannedValue, ScanMemo, parseJsonNumber, scanAnswers } from './answer-scan'
 import { FARM_COLUMN, ROUND_COLUMN, type PanelRead } from './panel-data'
 import { LATEST_OF_FARM_IN_ROUND } from './panel-export'
 
@@ -213,6 +213,7 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     const slotOf = keys.map(k => wanted.get(k.split('.')[0]!) ?? -1)
     const optionOf = keys.map(k => k.split('.')[1])
     const scanned: ScannedValue[] = Array.from({ length: questionKeys.length }, () => null)
+    const memo = new ScanMemo(questionKeys.length)
     const flagged = keys.some((_, j) => zeroFor[j] !== null)
     // No join (codes come from the map above), so rows stream from the first one on: with a join on the villages
     // MariaDB had started from the villages and sorted every row before sending one, which for 10^6 visits outlasted
@@ -251,14 +252,16 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
         line += `|${label}|${row[5] ?? '\\N'}`
       }
       let used = true
-      scanAnswers(row[base] as string | null, wanted, scanned)
+      const text = row[base] as string | null
+      scanAnswers(text, wanted, scanned, memo)
       const notAsked = flagged && row[base + 1] ? JSON.parse(row[base + 1] as string) as string[] : null
       for (let j = 0; j < keys.length; j++) {
         const value = j === sampleAt ? null : scanned[slotOf[j]!]!
         const option = optionOf[j]
+        const substituted = zeroFor[j] !== null && notAsked?.includes(questionKeys[slotOf[j]!]!)
         const v = j === sampleAt
           ? (Number(row[listedAt]) === 1 && sampleWeights!.has(Number(row[1])) ? String(sampleWeights!.get(Number(row[1]))) : null)
-          : zeroFor[j] !== null && notAsked?.includes(questionKeys[slotOf[j]!]!)
+          : substituted
             ? zeroFor[j]!
             : option === undefined
               ? (Array.isArray(value) ? null : value)
@@ -268,7 +271,12 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
           used = false
           missingRows[j]!.push(n)
         }
-        if (nums[j]) nums[j]![n] = v === null || isMissingText(v) ? Number.NaN : Number(v)
+        if (nums[j]) {
+          // A JSON number answer is read in place (parseJsonNumber: the same value Number() gives, without the copy).
+          const at = j !== sampleAt && !substituted && option === undefined ? memo.starts[slotOf[j]!]! : -1
+          const first = at >= 0 ? text!.charCodeAt(at) : 0
+          nums[j]![n] = v === null || isMissingText(v) ? Number.NaN : (first === 45 || (first >= 48 && first <= 57)) ? parseJsonNumber(text!, at) : Number(v)
+        }
         else texts[j]!.codes[n] = isMissingText(v) ? -1 : texts[j]!.code(v)
       }
       chunk += `${line}\n`

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { scanAnswers, type ScannedValue } from '../../server/utils/answer-scan'
+import { ScanMemo, parseJsonNumber, scanAnswers, type ScannedValue } from '../../server/utils/answer-scan'
 
 // The reference: what MariaDB's JSON_VALUE gave the loader before (a scalar's text, a string unescaped, null for
 // JSON null, objects and absent keys), with arrays parsed for several-answer questions.
@@ -69,10 +69,46 @@ describe('scanAnswers', () => {
       return Object.fromEntries(Array.from({ length: Math.floor(next() * 3) }, (_, i) => [pick(['x1', 'x2', 'k']) + i, value(depth + 1)]))
     }
     const keys = ['x1', 'x2', 'x3', 'adopted', 'k0']
+    // One memo across all rows, as the loader keeps it: keys in another order than the last row's, or keys that
+    // begin with the last row's key (x1 after x10), must still be read as themselves.
+    const wanted = new Map(keys.map((k, i) => [k, i]))
+    const memo = new ScanMemo(keys.length)
     for (let i = 0; i < 2000; i++) {
-      const doc = Object.fromEntries(Array.from({ length: Math.floor(next() * 8) }, () => [pick([...keys, 'other', 'rows']), value(0)]))
+      const doc = Object.fromEntries(Array.from({ length: Math.floor(next() * 8) }, () => [pick([...keys, 'x10', 'x', 'other', 'rows']), value(0)]))
       const text = next() < 0.5 ? JSON.stringify(doc) : JSON.stringify(doc, null, next() < 0.5 ? 1 : '\t')
       expect(scan(text, keys), text).toEqual(reference(text, keys))
+      const out: ScannedValue[] = keys.map(() => 'stale')
+      scanAnswers(text, wanted, out, memo)
+      expect(out, text).toEqual(reference(text, keys))
+      keys.forEach((k, j) => {
+        const at = memo.starts[j]!
+        expect(at >= 0, `${k} in ${text}`).toBe(Object.prototype.hasOwnProperty.call(doc, k))
+        if (typeof doc[k] === 'number') expect(parseJsonNumber(text, at)).toBe(doc[k])
+      })
+    }
+  })
+})
+
+describe('parseJsonNumber', () => {
+  const read = (text: string) => parseJsonNumber(`{"x":${text}}`, 5)
+
+  it('gives what Number() gives, on the fast path and off it', () => {
+    const cases = ['0', '-0', '-0.0', '1', '12', '0.1', '0.25', '-1.5e-7', '1E5', '2e+3', '123456789012345', '1234567890123456789',
+      '0.1000000000000000055511151231257827', '9007199254740993', '1e22', '1e23', '1e-22', '1e-23', '4.9e-324', '1.7976931348623157e308',
+      '2e308', '0.000001234', '-98.76543210', '5e-1', '100000000000000000000000']
+    for (const text of cases) expect(Object.is(read(text), Number(text)), text).toBe(true)
+  })
+
+  it('agrees with Number() on 100,000 random decimals', () => {
+    const next = rng(7)
+    for (let i = 0; i < 100_000; i++) {
+      const digits = 1 + Math.floor(next() * 18)
+      let mantissa = ''
+      for (let d = 0; d < digits; d++) mantissa += String(Math.floor(next() * 10))
+      const point = Math.floor(next() * (digits + 1))
+      let text = (next() < 0.3 ? '-' : '') + (point === 0 ? '0' : mantissa.slice(0, point).replace(/^0+(?=\d)/, '')) + (point < digits ? `.${mantissa.slice(point)}` : '')
+      if (next() < 0.3) text += `e${Math.floor(next() * 60) - 30}`
+      expect(read(text), text).toBe(Number(text))
     }
   })
 })
