@@ -10,7 +10,7 @@
 import { dropCollinearColumns } from './collinearity'
 import { EngineInputError, type EngineWarning } from './errors'
 import type { CovariateSpec, CovariateType, DroppedRows, ModelSpec } from './types'
-import { accessData, isCodedColumn, isMissing, toLevel, toNumber, toYesNo, type DataAccessor, type DataInput } from './values'
+import { accessData, isCodedColumn, isMissing, toLevel, toNumber, toYesNo, type CodedColumn, type DataAccessor, type DataInput } from './values'
 
 export type TermKind = 'intercept' | 'main' | 'square' | 'dummy' | 'interaction'
 
@@ -376,12 +376,26 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   ]
   if (spec.weights) vars.push({ name: spec.weights, label: spec.weightsLabel ?? spec.weights })
   if (spec.cluster) vars.push({ name: spec.cluster, label: spec.cluster })
-  // Typed numeric columns hold no missing values (NaN is a non-finite value, refused later): skip them here.
-  const getters = vars.map(v => (typedColumn(data, v.name) ? null : acc.column(v.name)))
+  // Typed numeric columns hold no missing values (NaN is a non-finite value, refused later): skip them here. A coded
+  // column is missing where its code is −1 or its level is a missing text: decided once per level, not per row.
+  const codedColumn = (name: string): CodedColumn | null => {
+    const col = Array.isArray(data) ? null : (data as Record<string, unknown>)[name]
+    return isCodedColumn(col) ? col : null
+  }
+  const tests = vars.map((v): ((i: number) => boolean) | null => {
+    if (typedColumn(data, v.name)) return null
+    const c = codedColumn(v.name)
+    if (c) {
+      const missingLevel = Uint8Array.from(c.levels, l => (isMissing(l) ? 1 : 0))
+      return i => c.codes[i]! < 0 || missingLevel[c.codes[i]!] === 1
+    }
+    const get = acc.column(v.name)
+    return i => isMissing(get(i))
+  })
   const dropCounts = new Array<number>(vars.length).fill(0)
   let rowIndex: Int32Array
   let n = 0
-  if (getters.every(g => g === null)) {
+  if (tests.every(t => t === null)) {
     rowIndex = new Int32Array(N)
     for (let i = 0; i < N; i++) rowIndex[i] = i
     n = N
@@ -390,9 +404,9 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
     const keep = new Int32Array(N)
     for (let i = 0; i < N; i++) {
       let missingAt = -1
-      for (let v = 0; v < getters.length; v++) {
-        const get = getters[v]
-        if (get && isMissing(get(i))) {
+      for (let v = 0; v < tests.length; v++) {
+        const test = tests[v]
+        if (test && test(i)) {
           missingAt = v
           break
         }
@@ -457,18 +471,19 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   // Fill X column by column (no per-row objects), then y, w, cluster. Same values as `fillRow` gives.
   const X = new Float64Array(buffer(n * kFull * 8))
   const y = new Float64Array(buffer(n * 8))
-  // Plain numeric covariates held in typed arrays are copied row by row in one sweep (X is written
-  // sequentially, once); the others column by column.
+  // Plain numeric covariates held in typed arrays are copied column by column, straight from their arrays (without
+  // the row index when no row was dropped); the intercept first. The others go through fillCovariate.
   const plain = covs.filter(c => c.type === 'numeric' && !c.transform && !c.square && typedColumn(data, c.name))
-  const plainCols = Int32Array.from(plain, c => c.mainCol)
-  const plainData = plain.map(c => typedColumn(data, c.name)!)
-  for (let r = 0, o = 0; r < n; r++, o += kFull) {
-    X[o] = 1
-    const i = rowIndex[r]!
-    for (let q = 0; q < plainCols.length; q++) {
-      const x = plainData[q]![i]!
-      if (!Number.isFinite(x)) toNumber(x, plain[q]!.name, i)
-      X[o + plainCols[q]!] = x
+  for (let r = 0, o = 0; r < n; r++, o += kFull) X[o] = 1
+  const allRows = n === N
+  for (const c of plain) {
+    const col = typedColumn(data, c.name)!
+    const at = c.mainCol
+    for (let r = 0, o = at; r < n; r++, o += kFull) {
+      const i = allRows ? r : rowIndex[r]!
+      const x = col[i]!
+      if (!Number.isFinite(x)) toNumber(x, c.name, i)
+      X[o] = x
     }
   }
   for (const c of covs) if (!plain.includes(c)) fillCovariate(X, kFull, n, rowIndex, c, typedColumn(data, c.name), acc.column(c.name))

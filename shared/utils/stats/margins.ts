@@ -213,21 +213,20 @@ function isFixedColumnEffect(plan: Design['plan'], ef: EffectPlan): boolean {
 /** Weighted means of the profile values (the "mean farm"). */
 export function meanProfile(design: Design): Profile {
   const { n, k, X, w, plan } = design
-  const sum = emptyProfile(plan)
-  const prof = emptyProfile(plan)
+  // A profile entry is one column of the design row (readProfile), so the mean profile is the profile of the mean
+  // row: one pass of column sums instead of a profile read per row (same sums, in the same order).
+  const sums = new Float64Array(k)
   let W = 0
   for (let i = 0; i < n; i++) {
     const wi = w ? w[i]! : 1
     W += wi
-    readProfile(plan, X, i * k, prof)
-    for (let c = 0; c < prof.length; c++) {
-      const s = sum[c]!
-      const p = prof[c]!
-      for (let l = 0; l < p.length; l++) s[l]! += wi * p[l]!
-    }
+    const off = i * k
+    for (let j = 0; j < k; j++) sums[j]! += wi * X[off + j]!
   }
-  for (const s of sum) for (let l = 0; l < s.length; l++) s[l]! /= W
-  return sum
+  const profile = emptyProfile(plan)
+  readProfile(plan, sums, 0, profile)
+  for (const s of profile) for (let l = 0; l < s.length; l++) s[l]! /= W
+  return profile
 }
 
 /** Overrides profile entries with chosen raw values (numeric value, yes/no, or level name). */
