@@ -145,7 +145,7 @@ async function child(n: number): Promise<void> {
   const rssMb = process.resourceUsage().maxRSS / 1024
   const designMb = (X.byteLength + y.byteLength + cluster.byteLength) / 1024 / 1024
   const bytes = { fused: design.n * (design.k + 1) * 8, cluster: design.n * ((design.k + 1) * 8 + 4), ame: design.n * design.k * 8 }
-  process.stdout.write(`${JSON.stringify({ n, fitMs, fullMs, fitParMs, fullParMs, threads: pool.blocks, iterations, rssMb, designMb, coef, maxRel, passes1, passesN, bytes })}\n`)
+  process.stdout.write(`${JSON.stringify({ n, fitMs, fullMs, fitParMs, fullParMs, threads: helpers.threads, iterations, rssMb, designMb, coef, maxRel, passes1, passesN, bytes })}\n`)
 }
 
 /** Whole-process wall time of a command (best of `times`). */
