@@ -23,7 +23,11 @@ async function fit(request: FitRequest): Promise<FitReply> {
       ok: true,
       results: runModel(request.data, request.spec, {
         arrayBuffer: passes ? bytes => new SharedArrayBuffer(bytes) : undefined,
-        parallel: (design, link) => (passes && design.n >= PARALLEL_MIN_ROWS ? passes.attach(design, link) : null)
+        parallel: (design, link) => (passes && design.n >= PARALLEL_MIN_ROWS ? passes.attach(design, link) : null),
+        // The columns came here to be fitted (moved from the loader): once the design holds them, nothing else does.
+        inputDone: () => {
+          if (!Array.isArray(request.data)) for (const key of Object.keys(request.data)) Reflect.deleteProperty(request.data, key)
+        }
       })
     }
   }

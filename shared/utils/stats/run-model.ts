@@ -58,6 +58,12 @@ export interface RunOptions {
    * across threads, so they read the design itself instead of a copy.
    */
   arrayBuffer?: DesignOptions['arrayBuffer']
+  /**
+   * Called once the engine will not read `data` again: after the design is built, when no later step reads the
+   * columns (no weights, checks or rounds). A host that owns the columns can let them go, so they are not held beside
+   * the design for the rest of the fit (at 10^6 rows and ten covariates, 80 MB).
+   */
+  inputDone?: () => void
 }
 
 export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions = {}): ModelResults {
@@ -74,7 +80,7 @@ export function runModel(data: DataInput, spec: ModelSpec, options: RunOptions =
   }
   const res = treatment === 'random-intercept'
     ? runRandomIntercept(work, s, ENGINE_VERSION, predictedHistogram)
-    : runPooled(work, s, treatment, options)
+    : runPooled(work, s, treatment, { ...options, inputDone: spec.rounds || spec.panelId || spec.checks?.linkTest || spec.checks?.hetero?.length ? undefined : options.inputDone })
   res.rounds = spec.rounds || spec.panelId
     ? {
         column: spec.rounds ?? null,
@@ -107,6 +113,7 @@ function runPooled(data: DataInput, spec: ModelSpec, treatment: VillageTreatment
   if (treatment !== 'survey' && (spec.strata || spec.fpc)) throw new EngineInputError('invalid_spec', 'strata and fpc belong to the survey design; choose it as the village treatment')
   const t0 = now()
   const design = buildDesign(data, spec, { arrayBuffer: options.arrayBuffer })
+  if (!design.w) options.inputDone?.()
   const t1 = now()
   const parallel = options.parallel?.(design, spec.link ?? 'probit') ?? null
   const fit = fitBinary(design, spec.link ?? 'probit', { maxIterations: spec.maxIterations, parallel })
