@@ -2,6 +2,8 @@
 // because the Nitro bundle has no separate file a Worker could load. For large rounds the row passes also use the
 // other cores: helper threads started from this same bundle (see pass-pool.ts). The runner (fit-runner.ts) keeps a
 // worker for the next fit, so its helpers are started once and stay, idle (blocked on a futex), between fits.
+import { setFlagsFromString } from 'node:v8'
+import { runInNewContext } from 'node:vm'
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
 import type { FitAnswer, FitMessage, FitRequest, FitReply } from './fit-protocol'
@@ -9,6 +11,15 @@ import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-po
 import { warmUpData, warmUpSpec } from './warm-up'
 
 let helpers: Promise<PassHelpers> | null = null
+
+/**
+ * A full garbage collection, run once a large fit's input columns have been let go. Why: V8 frees an ArrayBuffer only
+ * at its next full collection, and nothing in the rest of a fit triggers one, so at 10^6 rows the 92 MB of columns
+ * stayed beside the 88 MB design to the end (the server's peak grew by 3.2 × the design instead of under 3). The
+ * flag is set at run time because a worker cannot be started with V8 options.
+ */
+setFlagsFromString('--expose-gc')
+const collectGarbage = runInNewContext('gc') as () => void
 
 function rowsOf(data: FitRequest['data']): number {
   if (Array.isArray(data)) return data.length
@@ -26,7 +37,9 @@ async function fit(request: FitRequest): Promise<FitReply> {
         parallel: (design, link) => (passes && design.n >= PARALLEL_MIN_ROWS ? passes.attach(design, link) : null),
         // The columns came here to be fitted (moved from the loader): once the design holds them, nothing else does.
         inputDone: () => {
-          if (!Array.isArray(request.data)) for (const key of Object.keys(request.data)) Reflect.deleteProperty(request.data, key)
+          if (Array.isArray(request.data)) return
+          for (const key of Object.keys(request.data)) Reflect.deleteProperty(request.data, key)
+          if (passes) collectGarbage()
         }
       })
     }
