@@ -87,37 +87,55 @@ export function ascendingOrder(p: Float64Array): Uint32Array {
  * P(p̂₁ > p̂₀) + ½ P(p̂₁ = p̂₀). At most `maxPoints` evenly spaced points are returned.
  */
 export function rocCurve(p: Float64Array, y: Float64Array, w: Float64Array | null, maxPoints = 101, ascending: Uint32Array = ascendingOrder(p)): { auc: number, points: RocPoint[] } {
-  // Descending thresholds: the ascending order read from its end (ties are taken together, so their order is immaterial).
-  const idx = ascending.slice().reverse()
+  const n = p.length
   let P = 0
   let Nn = 0
-  for (let i = 0; i < p.length; i++) {
+  for (let i = 0; i < n; i++) {
     const wi = w ? w[i]! : 1
     if (y[i] === 1) P += wi
     else Nn += wi
   }
+  // Descending thresholds: p, y and w gathered once in that order (the ascending order read from its end; ties are
+  // taken together, so their order is immaterial), so the passes below read memory in order instead of jumping
+  // through the row order for every row twice (at 10^6 rows that took 150 ms, most of it waiting on memory). The
+  // outcomes are gathered from a byte copy, which stays in the cache where the doubles did not.
+  const yBytes = new Uint8Array(n)
+  for (let i = 0; i < n; i++) yBytes[i] = y[i] === 1 ? 1 : 0
+  const ps = new Float64Array(n)
+  const ys = new Uint8Array(n)
+  const ws = w ? new Float64Array(n) : null
+  for (let r = 0; r < n; r++) {
+    const i = ascending[n - 1 - r]!
+    ps[r] = p[i]!
+    ys[r] = yBytes[i]!
+    if (ws) ws[r] = w![i]!
+  }
   // Distinct thresholds D: the curve has D + 1 points; only the (at most maxPoints) evenly spaced ones
   // returned are kept, so a million rows make no million point objects.
   let distinct = 0
-  for (let r = 0; r < idx.length; r++) if (r === 0 || p[idx[r]!] !== p[idx[r - 1]!]) distinct++
+  for (let r = 0; r < n; r++) if (r === 0 || ps[r] !== ps[r - 1]) distinct++
   const total = distinct + 1
-  const wanted = new Set<number>()
-  if (total > maxPoints) for (let j = 0; j < maxPoints; j++) wanted.add(Math.round((j * (total - 1)) / (maxPoints - 1)))
-  const keep = (at: number): boolean => total <= maxPoints || wanted.has(at)
+  // The kept points' indices, in increasing order (the first, 0, is the point at threshold +∞).
+  const wantedAt = (j: number): number => Math.round((j * (total - 1)) / (maxPoints - 1))
+  let nextWanted = 1
+  const keep = (at: number): boolean => {
+    if (total <= maxPoints) return true
+    while (nextWanted < maxPoints && wantedAt(nextWanted) < at) nextWanted++
+    return nextWanted < maxPoints && wantedAt(nextWanted) === at
+  }
   let points: RocPoint[] = [{ threshold: Infinity, falsePositiveRate: 0, truePositiveRate: 0 }]
   let tp = 0
   let fp = 0
   let auc = 0
   let i = 0
   let at = 0
-  while (i < idx.length) {
-    const thr = p[idx[i]!]!
+  while (i < n) {
+    const thr = ps[i]!
     const tp0 = tp
     const fp0 = fp
-    while (i < idx.length && p[idx[i]!] === thr) {
-      const r = idx[i]!
-      const wi = w ? w[r]! : 1
-      if (y[r] === 1) tp += wi
+    while (i < n && ps[i] === thr) {
+      const wi = ws ? ws[i]! : 1
+      if (ys[i] === 1) tp += wi
       else fp += wi
       i++
     }
