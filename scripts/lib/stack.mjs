@@ -77,6 +77,10 @@ export async function startStack({ database, appPort, smtpPort, s3Port, objectDi
       PUBLIC_URL: process.env.PUBLIC_URL ?? `http://127.0.0.1:${appPort}`,
       NUXT_SESSION_PASSWORD: sessionSecret(secretFile),
       FURROWCAST_SEED: seed,
+      // glibc's malloc: blocks of 1 MB or more mapped on their own and unmapped when freed. By default it raises that
+      // threshold after the first large free, and a fit's column buffers (8 MB each at 10^6 rows), freed in the fit
+      // worker, then stayed in the loader's heap arena while the worker mapped new memory for its own arrays.
+      MALLOC_MMAP_THRESHOLD_: process.env.MALLOC_MMAP_THRESHOLD_ ?? '1048576',
       ...extraEnv
     }
     const server = startChild('app', process.execPath, [path.join(ROOT, '.output/server/index.mjs')], { env })
