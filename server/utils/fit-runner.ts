@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs'
 import path from 'node:path'
 import { Worker } from 'node:worker_threads'
 import type { DataInput, ModelSpec } from '#shared/utils/stats'
-import type { FitAnswer, FitMessage, FitReply } from '../workers/fit-protocol'
+import { LARGE_FIT_ROWS, type FitAnswer, type FitMessage, type FitReply } from '../workers/fit-protocol'
 
 export interface FitRunnerOptions {
   /** The worker script; defaults to the one bundled beside the built server. */
@@ -15,11 +15,11 @@ export interface FitRunnerOptions {
 }
 
 /**
- * After a fit of this many rows or more the worker is ended instead of kept: its arrays (the design alone is 88 MB
- * at 10^6 rows and ten covariates) go back to the system at once rather than whenever its heap is next collected, and
- * a fresh worker is warmed for the next fit. Below it, what a kept worker holds until then is a few MB.
+ * After a large fit (LARGE_FIT_ROWS) the worker is ended instead of kept: its arrays (the design alone is 88 MB at
+ * 10^6 rows and ten covariates) go back to the system at once rather than whenever its heap is next collected, and a
+ * fresh worker is warmed for the next fit.
  */
-const RECYCLE_ROWS = 200_000
+const RECYCLE_ROWS = LARGE_FIT_ROWS
 /** Workers kept between fits. One: a second fit at the same moment starts its own worker, as every fit once did. */
 const KEPT = 1
 

@@ -1,5 +1,12 @@
 import type { DataInput, ModelResults, ModelSpec } from '../../shared/utils/stats'
 
+/**
+ * A fit of this many rows or more is large: the worker collects its garbage once the input is let go, and the runner
+ * ends the worker afterwards. Below it, what a kept worker holds is a few MB, and a full collection (tens of ms on
+ * the worker's heap) would cost more than the memory it frees.
+ */
+export const LARGE_FIT_ROWS = 200_000
+
 export interface FitRequest {
   data: DataInput
   spec: ModelSpec

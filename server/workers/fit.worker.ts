@@ -6,7 +6,7 @@ import { setFlagsFromString } from 'node:v8'
 import { runInNewContext } from 'node:vm'
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
-import type { FitAnswer, FitMessage, FitRequest, FitReply } from './fit-protocol'
+import { LARGE_FIT_ROWS, type FitAnswer, type FitMessage, type FitRequest, type FitReply } from './fit-protocol'
 import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-pool'
 import { warmUpData, warmUpSpec } from './warm-up'
 
@@ -28,7 +28,8 @@ function rowsOf(data: FitRequest['data']): number {
 }
 
 async function fit(request: FitRequest): Promise<FitReply> {
-  const passes = rowsOf(request.data) >= PARALLEL_MIN_ROWS ? await (helpers ??= startPassHelpers(new URL(import.meta.url))) : null
+  const rows = rowsOf(request.data)
+  const passes = rows >= PARALLEL_MIN_ROWS ? await (helpers ??= startPassHelpers(new URL(import.meta.url))) : null
   try {
     return {
       ok: true,
@@ -39,7 +40,7 @@ async function fit(request: FitRequest): Promise<FitReply> {
         inputDone: () => {
           if (Array.isArray(request.data)) return
           for (const key of Object.keys(request.data)) Reflect.deleteProperty(request.data, key)
-          if (passes) collectGarbage()
+          if (rows >= LARGE_FIT_ROWS) collectGarbage()
         }
       })
     }
