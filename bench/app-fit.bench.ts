@@ -162,7 +162,7 @@ async function main() {
       if (posted.status !== 202) throw new Error(`POST /api/models: ${posted.status} ${JSON.stringify(posted.body).slice(0, 300)}`)
       let status = 'running'
       let getMs = 0
-      let body: { status: string, durationMs: number | null, results: { rows: { used: number }, coefficients: Array<{ estimate: number }>, timings: { totalMs: number } } | null, error: unknown } | null = null
+      let body: { status: string, durationMs: number | null, results: { rows: { used: number }, coefficients: Array<{ estimate: number }>, timings: { designMs: number, fitMs: number, inferenceMs: number, marginsMs: number, predictionsMs: number, totalMs: number } } | null, error: unknown } | null = null
       while (status === 'running') {
         await new Promise(resolve => setTimeout(resolve, 50))
         const g0 = performance.now()
@@ -196,12 +196,15 @@ async function main() {
       const ratio = oursMs / peer.total_ms
       // The server's own split: reading the rows (query, typed columns, hashes) and the engine's fit in the worker.
       const engineMs = ours.timings.totalMs
+      const t = ours.timings
       const readMs = (body!.durationMs ?? 0) - engineMs
       const load = loadAverage()
       entries.push({
         name: 'app fit path (POST → results by GET)', n, ours_ms: round(oursMs), peer: `mariadb CLI → pandas → statsmodels ${peer.version}`, peer_ms: round(peer.total_ms), ratio: round(ratio, 3), peak_rss_mb: round(peak),
-        details: { load_average_1m: load, post_ms: round(postMs), get_ms: round(gets[2]!), ours_read_ms: round(readMs), ours_engine_ms: round(engineMs), peer_read_ms: round(peer.read_ms), peer_fit_ms: round(peer.fit_ms), rss_before_mb: round(rssBefore), design_mb: round(designMb) }
+        details: { load_average_1m: load, post_ms: round(postMs), get_ms: round(gets[2]!), ours_read_ms: round(readMs), ours_engine_ms: round(engineMs), peer_read_ms: round(peer.read_ms), peer_fit_ms: round(peer.fit_ms), rss_before_mb: round(rssBefore), design_mb: round(designMb),
+          engine_design_ms: round(t.designMs), engine_fit_ms: round(t.fitMs), engine_checks_roc_ms: round(t.inferenceMs), engine_margins_ms: round(t.marginsMs), engine_villages_ms: round(t.predictionsMs) }
       })
+      console.log(`n=${n}: engine parts (ms): design ${t.designMs.toFixed(0)}, fit ${t.fitMs.toFixed(0)}, checks and ROC ${t.inferenceMs.toFixed(0)}, margins ${t.marginsMs.toFixed(0)}, village predictions ${t.predictionsMs.toFixed(0)}`)
       console.log(`n=${n}: ours ${oursMs.toFixed(0)} ms (read ${readMs.toFixed(0)} + engine ${engineMs.toFixed(0)}; POST ${postMs.toFixed(0)} ms, GET ${gets[2]!.toFixed(0)} ms), peer ${peer.total_ms.toFixed(0)} ms, ratio ${ratio.toFixed(3)}, peak RSS ${peak.toFixed(0)} MB vs X ${designMb.toFixed(0)} MB, load ${load}`)
       rows.push([String(n), oursMs.toFixed(0), `${readMs.toFixed(0)}+${engineMs.toFixed(0)}`, postMs.toFixed(0), getMs.toFixed(0), gets[2]!.toFixed(0), peer.total_ms.toFixed(0), `${peer.read_ms.toFixed(0)}+${peer.fit_ms.toFixed(0)}`, ratio.toFixed(3), `${rssBefore.toFixed(0)}→${peak.toFixed(0)}`, designMb.toFixed(0), String(load)])
       await exec('DELETE FROM model_runs WHERE round_id = ?', [roundId])
