@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs'
 import path from 'node:path'
 import { Worker } from 'node:worker_threads'
 import type { DataInput, ModelSpec } from '#shared/utils/stats'
-import { LARGE_FIT_ROWS, type FitAnswer, type FitMessage, type FitReply } from '../workers/fit-protocol'
+import { LARGE_FIT_ROWS, type FitAnswer, type FitMessage, type FitReply, type FitTask } from '../workers/fit-protocol'
 
 export interface FitRunnerOptions {
   /** The worker script; defaults to the one bundled beside the built server. */
@@ -74,13 +74,14 @@ class FitWorker {
     return this.dead === null
   }
 
-  send(message: Omit<FitMessage, 'id'>, transfer: ArrayBuffer[] = []): Promise<FitReply> {
+  send(task: FitTask, transfer: ArrayBuffer[] = []): Promise<FitReply> {
     if (this.dead) return Promise.reject(this.dead)
     const id = this.nextId++
     return new Promise<FitReply>((resolve, reject) => {
       this.pending.set(id, { resolve, reject })
       this.worker.ref()
-      this.worker.postMessage({ ...message, id } as FitMessage, transfer)
+      const message: FitMessage = { ...task, id }
+      this.worker.postMessage(message, transfer)
     })
   }
 

@@ -12,8 +12,11 @@ export interface FitRequest {
   spec: ModelSpec
 }
 
-/** What the runner posts to a fit worker: a fit, or the warm-up a pooled worker runs before it is first used. */
-export type FitMessage = { id: number, kind: 'fit', request: FitRequest } | { id: number, kind: 'warm-up' }
+/** What the runner asks of a fit worker: a fit, or the warm-up a kept worker runs before it is first used. */
+export type FitTask = { kind: 'fit', request: FitRequest } | { kind: 'warm-up' }
+
+/** A task as posted, with the id its answer carries back. */
+export type FitMessage = FitTask & { id: number }
 
 export interface FitFailure {
   /** 'input': the data or specification cannot be fitted (a 4xx for the user); 'internal': a bug. */
