@@ -15,8 +15,9 @@ let helpers: Promise<PassHelpers> | null = null
 /**
  * A full garbage collection, run once a large fit's input columns have been let go. Why: V8 frees an ArrayBuffer only
  * at its next full collection, and nothing in the rest of a fit triggers one, so at 10^6 rows the 92 MB of columns
- * stayed beside the 88 MB design to the end (the server's peak grew by 3.2 × the design instead of under 3). The
- * flag is set at run time because a worker cannot be started with V8 options.
+ * stayed beside the 88 MB design to the end. With this and the malloc setting the scripts give the server (README,
+ * Configuration), the server's growth during the 10^6 fit fell from 3.2 to 2.7 × the design. The flag is set at run
+ * time because a worker cannot be started with V8 options.
  */
 setFlagsFromString('--expose-gc')
 const collectGarbage = runInNewContext('gc') as () => void
