@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs'
 import path from 'node:path'
 import { Worker } from 'node:worker_threads'
 import type { DataInput, ModelSpec } from '#shared/utils/stats'
-import { LARGE_FIT_ROWS, type FitAnswer, type FitMessage, type FitReply, type FitTask } from '../workers/fit-protocol'
+import { LARGE_FIT_ROWS, rowsOf, type FitAnswer, type FitMessage, type FitReply, type FitTask } from '../workers/fit-protocol'
 
 export interface FitRunnerOptions {
   /** The worker script; defaults to the one bundled beside the built server. */
@@ -14,12 +14,6 @@ export interface FitRunnerOptions {
   transfer?: ArrayBuffer[]
 }
 
-/**
- * After a large fit (LARGE_FIT_ROWS) the worker is ended instead of kept: its arrays (the design alone is 88 MB at
- * 10^6 rows and ten covariates) go back to the system at once rather than whenever its heap is next collected, and a
- * fresh worker is warmed for the next fit.
- */
-const RECYCLE_ROWS = LARGE_FIT_ROWS
 /** Workers kept between fits. One: a second fit at the same moment starts its own worker, as every fit once did. */
 const KEPT = 1
 
@@ -113,12 +107,6 @@ export function prepareFitWorker(workerPath = defaultWorkerPath()): Promise<void
   })
 }
 
-function rowsOf(data: DataInput): number {
-  if (Array.isArray(data)) return data.length
-  const first = Object.values(data)[0] as { length?: number, codes?: Int32Array } | undefined
-  return first?.codes?.length ?? first?.length ?? 0
-}
-
 /**
  * Fits a model in a worker thread, so a fit on a million rows never blocks other requests. The worker is kept for
  * the next fit (warm: its code compiled, its helper threads started) unless the fit was large, failed inside the
@@ -143,7 +131,9 @@ export async function runFitInWorker(data: DataInput, spec: ModelSpec, options: 
         timer = setTimeout(() => reject(new Error(`the fit did not finish within ${timeoutMs} ms`)), timeoutMs)
       })
     ]).finally(() => clearTimeout(timer))
-    keep = rows < RECYCLE_ROWS && (reply.ok || reply.error.kind === 'input') && worker.alive && kept.length < KEPT
+    // After a large fit the worker is ended: its arrays (the design alone is 88 MB at 10^6 rows and ten covariates) go
+    // back to the system at once rather than whenever its heap is next collected, and a fresh one is warmed.
+    keep = rows < LARGE_FIT_ROWS && (reply.ok || reply.error.kind === 'input') && worker.alive && kept.length < KEPT
     return reply
   }
   finally {

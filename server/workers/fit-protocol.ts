@@ -7,6 +7,13 @@ import type { DataInput, ModelResults, ModelSpec } from '../../shared/utils/stat
  */
 export const LARGE_FIT_ROWS = 200_000
 
+/** Rows of a fit's input (row objects, or columns: typed arrays or coded text). */
+export function rowsOf(data: DataInput): number {
+  if (Array.isArray(data)) return data.length
+  const first = Object.values(data)[0] as { length?: number, codes?: Int32Array } | undefined
+  return first?.codes?.length ?? first?.length ?? 0
+}
+
 export interface FitRequest {
   data: DataInput
   spec: ModelSpec

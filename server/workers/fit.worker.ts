@@ -6,7 +6,7 @@ import { setFlagsFromString } from 'node:v8'
 import { runInNewContext } from 'node:vm'
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
-import { LARGE_FIT_ROWS, type FitAnswer, type FitMessage, type FitRequest, type FitReply } from './fit-protocol'
+import { LARGE_FIT_ROWS, rowsOf, type FitAnswer, type FitMessage, type FitRequest, type FitReply } from './fit-protocol'
 import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-pool'
 import { warmUpData, warmUpSpec } from './warm-up'
 
@@ -21,12 +21,6 @@ let helpers: Promise<PassHelpers> | null = null
  */
 setFlagsFromString('--expose-gc')
 const collectGarbage = runInNewContext('gc') as () => void
-
-function rowsOf(data: FitRequest['data']): number {
-  if (Array.isArray(data)) return data.length
-  const first = Object.values(data)[0] as { length?: number, codes?: Int32Array } | undefined
-  return first?.codes?.length ?? first?.length ?? 0
-}
 
 async function fit(request: FitRequest): Promise<FitReply> {
   const rows = rowsOf(request.data)

@@ -5,8 +5,9 @@
  * (this same module's file, started with `workerData.role = 'furrowcast-pass'`) read them in place. A pass is one
  * round of Atomics: the caller writes the parameters and the task, bumps a generation counter and wakes the helpers;
  * every thread, the caller's included, takes chunks of rows in turn and writes each chunk's partial sums into that
- * chunk's slot; the caller waits until every helper has run out of chunks and adds the slots in chunk order. Synchronous on the caller's side (Atomics.wait), because the engine's Newton loop is synchronous —
- * which is why this is not a message-passing pool. Used for n ≥ PARALLEL_MIN_ROWS only: below that, starting
+ * chunk's slot; the caller waits until every helper has run out of chunks and adds the slots in chunk order.
+ * Synchronous on the caller's side (Atomics.wait), because the engine's Newton loop is synchronous — which is why
+ * this is not a message-passing pool. Used for n ≥ PARALLEL_MIN_ROWS only: below that, starting
  * threads costs more than the pass.
  */
 import { availableParallelism } from 'node:os'

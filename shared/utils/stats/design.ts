@@ -315,6 +315,12 @@ function typedColumn(data: DataInput, name: string): Float64Array | Float32Array
   return col instanceof Float64Array || col instanceof Float32Array || col instanceof Int32Array ? col : null
 }
 
+/** The column as text codes, when the data is column-oriented and it is one. */
+function codedColumn(data: DataInput, name: string): CodedColumn | null {
+  const col = Array.isArray(data) ? null : (data as Record<string, unknown>)[name]
+  return isCodedColumn(col) ? col : null
+}
+
 /** Writes one covariate's column(s) of X for all rows (the column-wise equivalent of `encodeValue` + `fillRow`). */
 function fillCovariate(X: Float64Array, k: number, n: number, rowIndex: Int32Array, c: CovariatePlan, typed: ArrayLike<number> | null, get: (i: number) => unknown): void {
   if (c.type === 'numeric') {
@@ -378,13 +384,9 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   if (spec.cluster) vars.push({ name: spec.cluster, label: spec.cluster })
   // Typed numeric columns hold no missing values (NaN is a non-finite value, refused later): skip them here. A coded
   // column is missing where its code is −1 or its level is a missing text: decided once per level, not per row.
-  const codedColumn = (name: string): CodedColumn | null => {
-    const col = Array.isArray(data) ? null : (data as Record<string, unknown>)[name]
-    return isCodedColumn(col) ? col : null
-  }
   const tests = vars.map((v): ((i: number) => boolean) | null => {
     if (typedColumn(data, v.name)) return null
-    const c = codedColumn(v.name)
+    const c = codedColumn(data, v.name)
     if (c) {
       const missingLevel = Uint8Array.from(c.levels, l => (isMissing(l) ? 1 : 0))
       return i => c.codes[i]! < 0 || missingLevel[c.codes[i]!] === 1
@@ -521,8 +523,8 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   if (spec.cluster) {
     const typed = typedColumn(data, spec.cluster)
     cluster = new Int32Array(buffer(n * 4))
-    const coded = Array.isArray(data) ? null : (data as Record<string, unknown>)[spec.cluster]
-    if (isCodedColumn(coded)) {
+    const coded = codedColumn(data, spec.cluster)
+    if (coded) {
       // Coded text: labels from the levels the rows use, indices through a code → index table.
       const used = new Uint8Array(coded.levels.length)
       for (let r = 0; r < n; r++) used[coded.codes[rowIndex[r]!]!] = 1
