@@ -20,6 +20,7 @@
  */
 import { EngineInputError, runModel, toYesNo, type CovariateSpec, type CovarianceType, type LinkName, type ModelResults, type ModelSpec } from '../shared/utils/stats/index'
 import { isMainThread } from 'node:worker_threads'
+import { kernelArrayBuffer } from '../server/workers/pass-kernel'
 import { PARALLEL_MIN_ROWS, startPassHelpers } from '../server/workers/pass-pool'
 import { CsvError, readCsvColumns, separatorLabel, type CsvColumn, type CsvTable } from './lib/csv-columns'
 
@@ -358,8 +359,8 @@ async function main(): Promise<void> {
   try {
     results = runModel(engineColumns(table, used), spec, {
       // The design built in shared memory from the start, so the helper threads read it without a copy (at 10^6 rows
-      // the copy took 60 ms and one more 88 MB matrix).
-      arrayBuffer: helpers ? bytes => new SharedArrayBuffer(bytes) : undefined,
+      // the copy took 60 ms and one more 88 MB matrix); in WebAssembly memories, which the pass kernel reads.
+      arrayBuffer: helpers ? kernelArrayBuffer : undefined,
       parallel: (design, link) => (helpers && design.n >= PARALLEL_MIN_ROWS ? helpers.attach(design, link) : null)
     })
   }

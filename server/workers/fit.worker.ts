@@ -7,6 +7,7 @@ import { runInNewContext } from 'node:vm'
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
 import { LARGE_FIT_ROWS, rowsOf, type FitAnswer, type FitMessage, type FitRequest, type FitReply } from './fit-protocol'
+import { kernelArrayBuffer } from './pass-kernel'
 import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-pool'
 import { warmUpData, warmUpSpec } from './warm-up'
 
@@ -29,7 +30,7 @@ async function fit(request: FitRequest): Promise<FitReply> {
     return {
       ok: true,
       results: runModel(request.data, request.spec, {
-        arrayBuffer: passes ? bytes => new SharedArrayBuffer(bytes) : undefined,
+        arrayBuffer: passes ? kernelArrayBuffer : undefined,
         parallel: (design, link) => (passes && design.n >= PARALLEL_MIN_ROWS ? passes.attach(design, link) : null),
         // The columns came here to be fitted (moved from the loader): once the design holds them, nothing else does.
         inputDone: () => {

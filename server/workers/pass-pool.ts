@@ -13,9 +13,11 @@
 import { availableParallelism } from 'node:os'
 import { MessageChannel, Worker, isMainThread, receiveMessageOnPort, workerData, type MessagePort } from 'node:worker_threads'
 import {
-  accumulateRange, clusterCount, clusterScoresRange, evaluateRange, evaluateRangeShifted, getLink, planEffects, rowBlocks, symmetrise,
+  accumulateRange, clusterCount, clusterScoresRange, evaluateRange, evaluateRangeShifted, getLink, mergeSeparationStats, planEffects, rowBlocks,
+  separationStatsLength, separationStatsRange, symmetrise,
   type Design, type DesignPlan, type LinkName, type ParallelPasses, type PassResult
 } from '../../shared/utils/stats/index'
+import { evaluateRangeWithKernel, kernelMatrix, kernelRunner, prepareKernel, type KernelLayout, type KernelRunner } from './pass-kernel'
 
 export const PARALLEL_MIN_ROWS = 50_000
 const ROLE = 'furrowcast-pass'
@@ -41,6 +43,7 @@ const TASK_CLUSTER = 3
 const TASK_AME = 4
 const TASK_ATTACH = 5
 const TASK_DETACH = 6
+const TASK_SEPARATION = 7
 
 interface Shared {
   n: number
@@ -56,29 +59,43 @@ interface Shared {
   y: SharedArrayBuffer
   w: SharedArrayBuffer | null
   cluster: SharedArrayBuffer | null
+  /** The WebAssembly kernel's scratch past X (see pass-kernel.ts); null: the JavaScript pass. */
+  kernel: KernelLayout | null
   control: SharedArrayBuffer
   params: SharedArrayBuffer
   results: SharedArrayBuffer
 }
 
-/** The array's shared buffer: the design's own when it was built in shared memory (see fit.worker.ts), else a copy. */
+/**
+ * The array's shared buffer: the design's own when it was built in shared memory (see fit.worker.ts; it may be
+ * longer than the array, see `kernelArrayBuffer`), else a copy.
+ */
 function sharedBufferOf(a: Float64Array | Int32Array): SharedArrayBuffer {
-  if (a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0 && a.byteLength === a.buffer.byteLength) return a.buffer
+  if (a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0) return a.buffer
   const sab = new SharedArrayBuffer(a.byteLength)
   new Uint8Array(sab).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength))
   return sab
 }
 
-function designOf(s: Shared): Design {
-  return {
-    n: s.n, k: s.k, X: new Float64Array(s.X), y: new Float64Array(s.y), w: s.w ? new Float64Array(s.w) : null,
-    cluster: s.cluster ? new Int32Array(s.cluster) : null, clusterLabels: [], rowIndex: new Int32Array(0), plan: s.plan,
+/** What one thread holds of an attached design. */
+interface Attached {
+  s: Shared
+  design: Design
+  kernel: KernelRunner | null
+}
+
+/** Thread `index`'s view of the shared design (0 is the caller, helpers count from 1). */
+function attachedOf(s: Shared, index: number): Attached {
+  const design: Design = {
+    n: s.n, k: s.k, X: new Float64Array(s.X, 0, s.n * s.k), y: new Float64Array(s.y, 0, s.n), w: s.w ? new Float64Array(s.w, 0, s.n) : null,
+    cluster: s.cluster ? new Int32Array(s.cluster, 0, s.n) : null, clusterLabels: [], rowIndex: new Int32Array(0), plan: s.plan,
     rows: { totalRows: s.n, used: s.n, dropped: 0, byVariable: [] }, warnings: []
   }
+  return { s, design, kernel: s.kernel ? kernelRunner(s.kernel, index) : null }
 }
 
 /** One chunk's share of the current task, written into result slot `t`. */
-function runBlock(s: Shared, design: Design, t: number, task: number): void {
+function runBlock({ s, design, kernel }: Attached, t: number, task: number): void {
   const [start, end] = s.chunks[t]!
   const k = s.k
   const params = new Float64Array(s.params)
@@ -92,12 +109,17 @@ function runBlock(s: Shared, design: Design, t: number, task: number): void {
     const H = out.subarray(2 + k, 2 + k + k * k)
     const [ll, perfect] = task === TASK_EVALUATE_SHIFTED
       ? evaluateRangeShifted(design, link, b, shift, start, end, g, H)
-      : evaluateRange(design, link, b, start, end, g, H)
+      : kernel
+        ? evaluateRangeWithKernel(design, link, b, start, end, kernel, g, H)
+        : evaluateRange(design, link, b, start, end, g, H)
     out[0] = ll
     out[1] = perfect
   }
   else if (task === TASK_CLUSTER) {
     clusterScoresRange(design, link, b, shift, start, end, out.subarray(0, s.G * k))
+  }
+  else if (task === TASK_SEPARATION) {
+    separationStatsRange(design, start, end, out)
   }
   else if (task === TASK_AME) {
     const effects = planEffects(design)
@@ -108,11 +130,11 @@ function runBlock(s: Shared, design: Design, t: number, task: number): void {
 }
 
 /** Takes chunks of the current task until none is left (every thread, the caller's included, runs this). */
-function runChunks(s: Shared, design: Design, control: Int32Array, task: number): void {
+function runChunks(attached: Attached, control: Int32Array, task: number): void {
   for (;;) {
     const c = Atomics.add(control, NEXT, 1)
-    if (c >= s.chunks.length) return
-    runBlock(s, design, c, task)
+    if (c >= attached.s.chunks.length) return
+    runBlock(attached, c, task)
   }
 }
 
@@ -128,9 +150,8 @@ export function chunkCount(n: number, threads: number, slotDoubles: number): num
  * arrives as a message read synchronously (receiveMessageOnPort): the thread is blocked in Atomics.wait, never in
  * its event loop.
  */
-function helperLoop(control: Int32Array, port: MessagePort): void {
-  let s: Shared | null = null
-  let design: Design | null = null
+function helperLoop(control: Int32Array, port: MessagePort, index: number): void {
+  let attached: Attached | null = null
   let seen = 0
   for (;;) {
     Atomics.wait(control, GEN, seen)
@@ -139,15 +160,9 @@ function helperLoop(control: Int32Array, port: MessagePort): void {
     seen = gen
     if (Atomics.load(control, STOP)) return
     const task = Atomics.load(control, TASK)
-    if (task === TASK_ATTACH) {
-      s = (receiveMessageOnPort(port)!.message as Shared)
-      design = designOf(s)
-    }
-    else if (task === TASK_DETACH) {
-      s = null
-      design = null
-    }
-    else runChunks(s!, design!, control, task)
+    if (task === TASK_ATTACH) attached = attachedOf(receiveMessageOnPort(port)!.message as Shared, index)
+    else if (task === TASK_DETACH) attached = null
+    else runChunks(attached!, control, task)
     Atomics.add(control, DONE, 1)
     Atomics.notify(control, DONE)
   }
@@ -156,7 +171,7 @@ function helperLoop(control: Int32Array, port: MessagePort): void {
 if (!isMainThread && workerData?.role === ROLE) {
   // Tell the starter this thread has loaded, then serve passes.
   ;(workerData.port as MessagePort).postMessage('ready')
-  helperLoop(new Int32Array(workerData.control as SharedArrayBuffer), workerData.port as MessagePort)
+  helperLoop(new Int32Array(workerData.control as SharedArrayBuffer), workerData.port as MessagePort, workerData.index as number)
 }
 
 /** Started helper threads, ready to take a design. */
@@ -177,7 +192,7 @@ export interface PassHelpers {
 export async function startPassHelpers(script: URL | string, threads = Math.min(4, availableParallelism())): Promise<PassHelpers> {
   const control = new Int32Array(new SharedArrayBuffer(20))
   const channels = Array.from({ length: threads - 1 }, () => new MessageChannel())
-  const helpers = channels.map(ch => new Worker(script, { workerData: { role: ROLE, control: control.buffer, port: ch.port2 }, transferList: [ch.port2] }))
+  const helpers = channels.map((ch, i) => new Worker(script, { workerData: { role: ROLE, control: control.buffer, port: ch.port2, index: i + 1 }, transferList: [ch.port2] }))
   await Promise.all(channels.map((ch, i) => new Promise<void>((resolve, reject) => {
     ch.port1.once('message', () => resolve())
     helpers[i]!.once('error', reject)
@@ -209,15 +224,17 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
       const k = design.k
       const G = design.cluster ? clusterCount(design) : 0
       const m = planEffects(design).length
-      const slot = Math.max(2 + k + k * k, G * k, 1 + m + m * k)
+      const slot = Math.max(2 + k + k * k, G * k, 1 + m + m * k, separationStatsLength(k))
       const chunks = rowBlocks(design.n, chunkCount(design.n, threads, slot))
+      const X = kernelMatrix(design.X)
       const shared: Shared = {
         n: design.n, k, G, m, slot, chunks, link: linkName, plan: design.plan,
-        X: sharedBufferOf(design.X), y: sharedBufferOf(design.y), w: design.w ? sharedBufferOf(design.w) : null,
-        cluster: design.cluster ? sharedBufferOf(design.cluster) : null,
+        X: sharedBufferOf(X), y: sharedBufferOf(design.y), w: design.w ? sharedBufferOf(design.w) : null,
+        cluster: design.cluster ? sharedBufferOf(design.cluster) : null, kernel: prepareKernel(X, k, threads),
         control: control.buffer as SharedArrayBuffer, params: new SharedArrayBuffer(2 * k * 8), results: new SharedArrayBuffer(chunks.length * slot * 8)
       }
-      const mine = designOf(shared)
+      const attached = attachedOf(shared, 0)
+      const mine = attached.design
       // The caller's design reads the shared copies from now on, so the private ones can be collected.
       design.X = mine.X
       design.y = mine.y
@@ -233,13 +250,16 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
         params.set(b, 0)
         if (shift) params.set(shift, k)
         signal(task)
-        runChunks(shared, mine, control, task)
+        runChunks(attached, control, task)
         waitHelpers()
         return chunks.map((_, t) => new Float64Array(shared.results, t * slot * 8, slot))
       }
 
       return {
         blocks: chunks.length,
+        separationStats() {
+          return mergeSeparationStats(run(TASK_SEPARATION, [], null), k)
+        },
         evaluate(b, shift): PassResult {
           const parts = run(shift ? TASK_EVALUATE_SHIFTED : TASK_EVALUATE, b, shift)
           const g = new Float64Array(k)

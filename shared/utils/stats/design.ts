@@ -349,7 +349,8 @@ export interface DesignOptions {
   /**
    * Makes the buffer behind X, y, w and the cluster codes (default: a plain ArrayBuffer). A host that splits the
    * row passes across threads gives SharedArrayBuffers, so the threads read this design and no copy of it is made:
-   * at 10^6 rows a copy was one more X (88 MB) at the server's peak memory.
+   * at 10^6 rows a copy was one more X (88 MB) at the server's peak memory. The buffer may be longer than asked
+   * (WebAssembly memories come in 64-KB pages): the arrays are given their lengths.
    */
   arrayBuffer?: (bytes: number) => ArrayBufferLike
 }
@@ -471,8 +472,8 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   }
 
   // Fill X column by column (no per-row objects), then y, w, cluster. Same values as `fillRow` gives.
-  const X = new Float64Array(buffer(n * kFull * 8))
-  const y = new Float64Array(buffer(n * 8))
+  const X = new Float64Array(buffer(n * kFull * 8), 0, n * kFull)
+  const y = new Float64Array(buffer(n * 8), 0, n)
   // Plain numeric covariates held in typed arrays are copied column by column, straight from their arrays (without
   // the row index when no row was dropped); the intercept first. The others go through fillCovariate.
   const plain = covs.filter(c => c.type === 'numeric' && !c.transform && !c.square && typedColumn(data, c.name))
@@ -510,7 +511,7 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   }
   let w: Float64Array | null = null
   if (spec.weights) {
-    w = new Float64Array(buffer(n * 8))
+    w = new Float64Array(buffer(n * 8), 0, n)
     const get = acc.column(spec.weights)
     for (let r = 0; r < n; r++) {
       const v = toNumber(get(rowIndex[r]!), spec.weights, rowIndex[r]!)
@@ -522,7 +523,7 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
   let clusterLabels: string[] = []
   if (spec.cluster) {
     const typed = typedColumn(data, spec.cluster)
-    cluster = new Int32Array(buffer(n * 4))
+    cluster = new Int32Array(buffer(n * 4), 0, n)
     const coded = codedColumn(data, spec.cluster)
     if (coded) {
       // Coded text: labels from the levels the rows use, indices through a code → index table.

@@ -209,7 +209,7 @@ export function fitBinary(design: Design, linkName: LinkName = 'probit', options
   const maxIter = options.maxIterations ?? 50
   const gradTol = options.gradTol ?? 1e-10
   const relTol = options.relTol ?? 1e-8
-  const warnings: EngineWarning[] = options.skipSeparationCheck ? [] : checkSeparation(design)
+  const warnings: EngineWarning[] = options.skipSeparationCheck ? [] : checkSeparation(design, options.parallel?.separationStats())
 
   let b: Float64Array = new Float64Array(k)
   if (options.start) {

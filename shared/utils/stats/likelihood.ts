@@ -143,6 +143,77 @@ export function evaluateRange(design: Design, link: Link, b: ArrayLike<number>, 
 }
 
 /**
+ * The link's share of the fused pass over rows [start, end): writes each row's weighted dℓ/dη and d²ℓ/dη² into
+ * s[i − start] and h[i − start], and adds ℓ and the perfectly predicted rows to acc[0] and acc[1]. The score and
+ * Hessian sums are then formed from s and h by the pass pool's WebAssembly kernel (server/workers/pass-kernel.wat).
+ * Four rows per step and the same expressions as `evaluateRange`, so that run over the same rows in turn the two
+ * give the same doubles, bit for bit.
+ */
+export function linkTermsRange(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, s: Float64Array, h: Float64Array, acc: Float64Array): void {
+  const { k, X, y, w } = design
+  const t = new Float64Array(3)
+  let ll = acc[0]!
+  let perfect = acc[1]!
+  let i = start
+  for (; i + 3 < end; i += 4) {
+    const o1 = i * k
+    const o2 = o1 + k
+    const o3 = o2 + k
+    const o4 = o3 + k
+    let e1 = 0
+    let e2 = 0
+    let e3 = 0
+    let e4 = 0
+    for (let j = 0; j < k; j++) {
+      const bj = b[j]!
+      e1 += X[o1 + j]! * bj
+      e2 += X[o2 + j]! * bj
+      e3 += X[o3 + j]! * bj
+      e4 += X[o4 + j]! * bj
+    }
+    const r = i - start
+    const w1 = w ? w[i]! : 1
+    const w2 = w ? w[i + 1]! : 1
+    const w3 = w ? w[i + 2]! : 1
+    const w4 = w ? w[i + 3]! : 1
+    link.obsTerms(e1, y[i]!, t)
+    const l1 = t[0]!
+    s[r] = w1 * t[1]!
+    h[r] = w1 * t[2]!
+    link.obsTerms(e2, y[i + 1]!, t)
+    const l2 = t[0]!
+    s[r + 1] = w2 * t[1]!
+    h[r + 1] = w2 * t[2]!
+    link.obsTerms(e3, y[i + 2]!, t)
+    const l3 = t[0]!
+    s[r + 2] = w3 * t[1]!
+    h[r + 2] = w3 * t[2]!
+    link.obsTerms(e4, y[i + 3]!, t)
+    const l4 = t[0]!
+    s[r + 3] = w4 * t[1]!
+    h[r + 3] = w4 * t[2]!
+    ll += w1 * l1 + w2 * l2 + w3 * l3 + w4 * l4
+    if (l1 > -1e-10) perfect++
+    if (l2 > -1e-10) perfect++
+    if (l3 > -1e-10) perfect++
+    if (l4 > -1e-10) perfect++
+  }
+  for (; i < end; i++) {
+    const o1 = i * k
+    let e1 = 0
+    for (let j = 0; j < k; j++) e1 += X[o1 + j]! * b[j]!
+    link.obsTerms(e1, y[i]!, t)
+    const w1 = w ? w[i]! : 1
+    ll += w1 * t[0]!
+    if (t[0]! > -1e-10) perfect++
+    s[i - start] = w1 * t[1]!
+    h[i - start] = w1 * t[2]!
+  }
+  acc[0] = ll
+  acc[1] = perfect
+}
+
+/**
  * The same pass on shifted columns x̃_j = x_j − c_j (c_0 = 0), with b̃ in the shifted coordinates
  * (x'b = x̃'b̃). Used when a column's level dwarfs its spread (a date coded yyyymmdd): the Hessian
  * of the shifted problem is well conditioned, the uncentred one is not. One row at a time: rare.

@@ -11,6 +11,8 @@ import type { PassResult } from './likelihood'
 export interface ParallelPasses {
   /** Number of row blocks whose partial sums are added (at least the number of threads). */
   readonly blocks: number
+  /** The separation check's column statistics over all rows (see separation.ts). */
+  separationStats: () => Float64Array
   /** The fused pass: ℓ, g and H at b (in shifted coordinates when `shift` is given, see likelihood.ts). */
   evaluate: (b: Float64Array, shift: Float64Array | null) => PassResult
   /** Per-cluster score sums U (G×k, row-major) at b̃ with the design's shift (zeros when none). */

@@ -13,19 +13,28 @@
 import type { Design } from './design'
 import { EngineInputError, type EngineWarning } from './errors'
 
-export function checkSeparation(design: Design): EngineWarning[] {
-  const { n, k, X, y, plan } = design
-  const warnings: EngineWarning[] = []
-  const min1 = new Float64Array(k).fill(Infinity)
-  const max1 = new Float64Array(k).fill(-Infinity)
-  const min0 = new Float64Array(k).fill(Infinity)
-  const max0 = new Float64Array(k).fill(-Infinity)
-  const binary = new Uint8Array(k).fill(1)
-  // Sums of x among ones and zeros: for 0/1 columns they are the cell counts.
-  const sum1 = new Float64Array(k)
-  const sum0 = new Float64Array(k)
+/** Doubles of the column statistics for k columns (see `separationStatsRange`). */
+export function separationStatsLength(k: number): number {
+  return 7 * k + 1
+}
+
+/**
+ * The statistics the check reads, over rows [start, end), written into `out` (7k + 1 doubles): per column the
+ * minimum and maximum among ones and among zeros, the sums among ones and among zeros (for 0/1 columns the cell
+ * counts), and 1 if it holds a value other than 0 and 1; last, the number of ones. Ranges can run on separate threads
+ * and be merged with `mergeSeparationStats`.
+ */
+export function separationStatsRange(design: Design, start: number, end: number, out: Float64Array): void {
+  const { k, X, y } = design
+  const min1 = out.subarray(0, k).fill(Infinity)
+  const max1 = out.subarray(k, 2 * k).fill(-Infinity)
+  const min0 = out.subarray(2 * k, 3 * k).fill(Infinity)
+  const max0 = out.subarray(3 * k, 4 * k).fill(-Infinity)
+  const sum1 = out.subarray(4 * k, 5 * k).fill(0)
+  const sum0 = out.subarray(5 * k, 6 * k).fill(0)
+  const other = out.subarray(6 * k, 7 * k).fill(0)
   let n1 = 0
-  for (let i = 0; i < n; i++) {
+  for (let i = start; i < end; i++) {
     const off = i * k
     if (y[i] === 1) {
       n1++
@@ -34,7 +43,7 @@ export function checkSeparation(design: Design): EngineWarning[] {
         if (x < min1[j]!) min1[j] = x
         if (x > max1[j]!) max1[j] = x
         sum1[j]! += x
-        if (x !== 0 && x !== 1) binary[j] = 0
+        if (x !== 0 && x !== 1) other[j] = 1
       }
     }
     else {
@@ -43,15 +52,55 @@ export function checkSeparation(design: Design): EngineWarning[] {
         if (x < min0[j]!) min0[j] = x
         if (x > max0[j]!) max0[j] = x
         sum0[j]! += x
-        if (x !== 0 && x !== 1) binary[j] = 0
+        if (x !== 0 && x !== 1) other[j] = 1
       }
     }
   }
+  out[7 * k] = n1
+}
+
+/** Merges ranges' statistics, in order, into the first. */
+export function mergeSeparationStats(parts: Float64Array[], k: number): Float64Array {
+  const out = Float64Array.from(parts[0]!.subarray(0, separationStatsLength(k)))
+  for (const p of parts.slice(1)) {
+    for (let j = 0; j < k; j++) {
+      out[j] = Math.min(out[j]!, p[j]!)
+      out[k + j] = Math.max(out[k + j]!, p[k + j]!)
+      out[2 * k + j] = Math.min(out[2 * k + j]!, p[2 * k + j]!)
+      out[3 * k + j] = Math.max(out[3 * k + j]!, p[3 * k + j]!)
+      out[4 * k + j]! += p[4 * k + j]!
+      out[5 * k + j]! += p[5 * k + j]!
+      out[6 * k + j] = Math.max(out[6 * k + j]!, p[6 * k + j]!)
+    }
+    out[7 * k]! += p[7 * k]!
+  }
+  return out
+}
+
+/**
+ * Throws for complete separation by one column and returns warnings for quasi-complete separation. `stats` are the
+ * column statistics of all rows (from the pass pool); without them they are computed here, on this thread.
+ */
+export function checkSeparation(design: Design, stats?: Float64Array): EngineWarning[] {
+  const { n, k, plan } = design
+  let st = stats
+  if (!st) {
+    st = new Float64Array(separationStatsLength(k))
+    separationStatsRange(design, 0, n, st)
+  }
+  const warnings: EngineWarning[] = []
+  const min1 = st.subarray(0, k)
+  const max1 = st.subarray(k, 2 * k)
+  const min0 = st.subarray(2 * k, 3 * k)
+  const max0 = st.subarray(3 * k, 4 * k)
+  const sum1 = st.subarray(4 * k, 5 * k)
+  const sum0 = st.subarray(5 * k, 6 * k)
+  const n1 = st[7 * k]!
   const n0 = n - n1
   const outcome = plan.outcomeLabel
   for (let j = 1; j < k; j++) {
     const term = plan.terms[j]!
-    if (binary[j]) {
+    if (st[6 * k + j] === 0) {
       // c<x><y>: rows with that column value and outcome
       const c11 = sum1[j]!
       const c01 = n1 - c11

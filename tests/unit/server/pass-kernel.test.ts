@@ -1,0 +1,114 @@
+import { readFileSync } from 'node:fs'
+import { describe, expect, it } from 'vitest'
+import { assemblePassKernel, kernelModuleSource } from '../../../scripts/lib/pass-kernel-bytes.mjs'
+import {
+  evaluateRangeWithKernel, KERNEL_BLOCK_ROWS, kernelArrayBuffer, kernelMatrix, kernelRunner, prepareKernel
+} from '../../../server/workers/pass-kernel'
+import { checkSeparation, designFromMatrix, evaluateRange, getLink, mergeSeparationStats, separationStatsLength, separationStatsRange, type LinkName } from '../../../shared/utils/stats'
+import { normal, prng } from '../../../shared/utils/random/prng'
+
+/** A design of n rows and `covariates` columns plus the intercept, X in a kernel memory (as the fit worker builds it). */
+function design(n: number, covariates: number, seed: number, weighted: boolean) {
+  const u = prng(seed)
+  const k = covariates + 1
+  const X = new Float64Array(kernelArrayBuffer(n * k * 8), 0, n * k)
+  const y = new Float64Array(n)
+  for (let i = 0; i < n; i++) {
+    X[i * k] = 1
+    let eta = -0.2
+    for (let j = 1; j < k; j++) {
+      // Normal, 0/1 and large-valued columns: the sums are not exact in any order.
+      const v = j % 3 === 0 ? (u() < 0.3 ? 1 : 0) : j % 3 === 1 ? normal(u) : 50 + 10 * normal(u)
+      X[i * k + j] = v
+      eta += (j % 3 === 2 ? 0.01 : 0.4) * (j % 3 === 2 ? v - 50 : v)
+    }
+    y[i] = eta + normal(u) > 0 ? 1 : 0
+  }
+  const weights = weighted ? Float64Array.from({ length: n }, () => 0.5 + 2 * u()) : undefined
+  return designFromMatrix(X, y, Array.from({ length: covariates }, (_, j) => `x${j + 1}`), { weights })
+}
+
+describe('the pass kernel (WebAssembly)', () => {
+  it('is the assembly of its text: the bytes the server loads match pass-kernel.wat', async () => {
+    const committed = readFileSync(new URL('../../../server/workers/pass-kernel-wasm.ts', import.meta.url), 'utf8')
+    expect(committed).toBe(kernelModuleSource(await assemblePassKernel()))
+  })
+
+  // The same doubles as the JavaScript pass: every cell of g and H, ℓ and the count, compared with toBe (bit for bit).
+  const cases: Array<[number, number, LinkName, boolean]> = [
+    [1, 2 * KERNEL_BLOCK_ROWS + 3, 'probit', false],
+    [1, 501, 'logit', true],
+    [2, 10_001, 'probit', true],
+    [3, 9_999, 'cloglog', false],
+    [10, 3 * KERNEL_BLOCK_ROWS + 7, 'probit', false],
+    [11, 12_345, 'logit', true]
+  ]
+  for (const [covariates, n, linkName, weighted] of cases) {
+    it(`gives evaluateRange's sums bit for bit: k = ${covariates + 1}, ${n} rows, ${linkName}${weighted ? ', weighted' : ''}`, () => {
+      const d = design(n, covariates, 17 + covariates, weighted)
+      const k = d.k
+      const layout = prepareKernel(d.X, k, 2)
+      expect(layout).not.toBeNull()
+      const link = getLink(linkName)
+      const b = Float64Array.from({ length: k }, (_, j) => (j === 0 ? -0.1 : 0.05 * ((j % 4) - 1.5)))
+      // Two ranges, on two runners (threads 0 and 1 share the memory), the second starting mid-block.
+      for (const [start, end, thread] of [[0, n, 0], [4 * 37, n - 5, 1]] as const) {
+        const gJs = new Float64Array(k)
+        const hJs = new Float64Array(k * k)
+        const js = evaluateRange(d, link, b, start, end, gJs, hJs)
+        const g = new Float64Array(k)
+        const H = new Float64Array(k * k)
+        const wasm = evaluateRangeWithKernel(d, link, b, start, end, kernelRunner(layout!, thread), g, H)
+        expect(wasm).toEqual(js)
+        expect(Array.from(g)).toEqual(Array.from(gJs))
+        expect(Array.from(H)).toEqual(Array.from(hJs))
+        // The lower triangle is filled (the upper one is the caller's to mirror).
+        expect(H[(k - 1) * k]).not.toBe(0)
+      }
+    })
+  }
+
+  it('reads a design built in a kernel memory in place, and copies any other', () => {
+    const d = design(1000, 3, 5, false)
+    expect(kernelMatrix(d.X)).toBe(d.X)
+    const plain = Float64Array.from(d.X)
+    const copy = kernelMatrix(plain)
+    expect(copy).not.toBe(plain)
+    expect(Array.from(copy)).toEqual(Array.from(plain))
+    expect(prepareKernel(copy, 4, 2)).not.toBeNull()
+    // Not in a kernel memory: the pool runs the JavaScript pass.
+    expect(prepareKernel(plain, 4, 2)).toBeNull()
+  })
+
+  it('declines a design whose scratch does not fit the memory\'s headroom (the pool then runs the JavaScript pass)', () => {
+    // k = 800: H alone is 5.1 MB per thread, past the 4 MB of headroom.
+    const X = new Float64Array(kernelArrayBuffer(900 * 800 * 8), 0, 900 * 800)
+    expect(prepareKernel(X, 800, 2)).toBeNull()
+    expect(prepareKernel(X, 100, 2)).not.toBeNull()
+  })
+})
+
+describe('the separation check over ranges (as the pass pool runs it)', () => {
+  it('merges ranges\' column statistics into those of all rows, and gives the same warnings', () => {
+    const d = design(9_001, 4, 29, false)
+    // Quasi-complete separation in the 0/1 column x3: every row with it has y = 1.
+    for (let i = 0; i < d.n; i++) if (d.X[i * d.k + 3] === 1) d.y[i] = 1
+    const whole = new Float64Array(separationStatsLength(d.k))
+    separationStatsRange(d, 0, d.n, whole)
+    const parts = [[0, 4000], [4000, 4004], [4004, d.n]].map(([a, b]) => {
+      const out = new Float64Array(separationStatsLength(d.k) + 5)
+      separationStatsRange(d, a!, b!, out)
+      return out
+    })
+    const merged = mergeSeparationStats(parts, d.k)
+    const k = d.k
+    // Minima, maxima, the 0/1 flags and the count of ones exactly; the sums (counts only for 0/1 columns) to rounding.
+    expect(Array.from(merged.subarray(0, 4 * k))).toEqual(Array.from(whole.subarray(0, 4 * k)))
+    expect(Array.from(merged.subarray(6 * k))).toEqual(Array.from(whole.subarray(6 * k)))
+    merged.subarray(4 * k, 6 * k).forEach((v, j) => expect(Math.abs(v - whole[4 * k + j]!)).toBeLessThanOrEqual(1e-12 * Math.abs(whole[4 * k + j]!)))
+    expect(merged[4 * k + 3]).toBe(whole[4 * k + 3])
+    const warnings = checkSeparation(d, mergeSeparationStats(parts, d.k))
+    expect(warnings.map(w => w.code)).toEqual(['quasi_complete_separation'])
+    expect(warnings).toEqual(checkSeparation(d))
+  })
+})
