@@ -90,8 +90,13 @@ function best(reps: number, f: () => void): number {
   return t
 }
 
+/**
+ * Runs per timing, the best taken, on both sides (statsmodels gets the same count). 30 at 10^4: V8 optimises the pass
+ * pool's helper-thread code only after about 20 fits of that size (4.5–5 ms each before, 2.0–2.5 ms after), so with 7
+ * runs the figure was that of unoptimised code. (In the app a fit of 10^4 rows runs on one thread: PARALLEL_MIN_ROWS.)
+ */
 function reps(n: number): number {
-  return n <= 1e4 ? 7 : n <= 1e5 ? 4 : 2
+  return n <= 1e4 ? 30 : n <= 1e5 ? 4 : 2
 }
 
 function timePasses(design: ReturnType<typeof designFromMatrix>, b: Float64Array, pool: ParallelPasses | null): { fused: number, cluster: number, ame: number } {
