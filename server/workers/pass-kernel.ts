@@ -1,5 +1,6 @@
 /**
- * The fused likelihood pass with its score and Hessian sums in WebAssembly (pass-kernel.wat), for the pass pool.
+ * The fused likelihood pass with its score and Hessian sums, and for probit its link terms, in WebAssembly
+ * (pass-kernel.wat), for the pass pool.
  *
  * The kernel reads the design matrix where it lies, so X must be in a WebAssembly memory: `kernelArrayBuffer` gives
  * the design builder such memories (shared, so the pool's threads read them too), and the pool copies any other
@@ -12,8 +13,10 @@ import { setFlagsFromString } from 'node:v8'
 import { linkTermsRange, type Design, type Link } from '../../shared/utils/stats/index'
 import { PASS_KERNEL_WASM } from './pass-kernel-wasm'
 
-/** Rows whose link terms are formed before the kernel sums them: a multiple of 4 (the passes' stride), 64 KB of s and h. */
+/** Rows whose link terms are formed before the kernel sums them: a multiple of 4 (the passes' stride), 32 KB per array. */
 export const KERNEL_BLOCK_ROWS = 4096
+/** The block's arrays in each thread's scratch: s, h, ℓ, y, w. */
+const BLOCK_ARRAYS = 5
 const PAGE = 65536
 /** Pages past the data for the scratch (4 MB): 4 threads at k = 300 need 3.1 MB. */
 const HEADROOM_PAGES = 64
@@ -24,7 +27,7 @@ let compiled: WebAssembly.Module | null = null
 
 function kernelModule(): WebAssembly.Module {
   if (!compiled) {
-    // Compiled by the optimising tier at once: with the baseline tier the first 10^6-row pass took 51 ms, not 13 ms.
+    // Compiled by the optimising tier at once: with the baseline tier the first 10^6-row Hessian sum took 51 ms, not 13.
     setFlagsFromString('--no-liftoff')
     compiled = new WebAssembly.Module(Buffer.from(PASS_KERNEL_WASM, 'base64'))
   }
@@ -71,7 +74,7 @@ export function prepareKernel(X: Float64Array, k: number, threads: number): Kern
   const memory = X.byteOffset === 0 ? memories.get(X.buffer) : undefined
   if (!memory) return null
   const kp = k + (k % 2)
-  const perThread = align16(KERNEL_BLOCK_ROWS * 8) * 2 + align16(k * 8) + align16(k * kp * 8)
+  const perThread = align16(KERNEL_BLOCK_ROWS * 8) * BLOCK_ARRAYS + align16(k * 8) * 2 + align16(k * kp * 8)
   const scratch = align16(X.byteLength + 16)
   const needed = scratch + threads * perThread
   const have = memory.buffer.byteLength
@@ -87,18 +90,29 @@ export function prepareKernel(X: Float64Array, k: number, threads: number): Kern
 }
 
 type Accumulate = (px: number, ps: number, ph: number, rows: number, k: number, kp: number, pg: number, pH: number) => void
+type ProbitTerms = (px: number, pb: number, k: number, py: number, pw: number, weighted: number, ps: number, ph: number, pl: number, rows: number) => void
 
 /** One thread's instance of the kernel and views of its scratch. */
 export interface KernelRunner {
   layout: KernelLayout
   accumulate: Accumulate
+  probitTerms: ProbitTerms
   s: Float64Array
   h: Float64Array
+  l: Float64Array
+  y: Float64Array
+  w: Float64Array
+  b: Float64Array
   g: Float64Array
   H: Float64Array
   acc: Float64Array
+  t: Float64Array
   ps: number
   ph: number
+  pl: number
+  py: number
+  pw: number
+  pb: number
   pg: number
   pH: number
 }
@@ -108,36 +122,82 @@ export function kernelRunner(layout: KernelLayout, index: number): KernelRunner 
   const { memory, k, kp } = layout
   const instance = new WebAssembly.Instance(kernelModule(), { env: { memory } })
   const buffer = memory.buffer
+  const block = align16(KERNEL_BLOCK_ROWS * 8)
   const ps = layout.scratch + index * layout.perThread
-  const ph = ps + align16(KERNEL_BLOCK_ROWS * 8)
-  const pg = ph + align16(KERNEL_BLOCK_ROWS * 8)
+  const ph = ps + block
+  const pl = ph + block
+  const py = pl + block
+  const pw = py + block
+  const pb = pw + block
+  const pg = pb + align16(k * 8)
   const pH = pg + align16(k * 8)
+  const rows = (at: number) => new Float64Array(buffer, at, KERNEL_BLOCK_ROWS)
   return {
     layout,
     accumulate: instance.exports.accumulate as Accumulate,
-    s: new Float64Array(buffer, ps, KERNEL_BLOCK_ROWS),
-    h: new Float64Array(buffer, ph, KERNEL_BLOCK_ROWS),
+    probitTerms: instance.exports.probitTerms as ProbitTerms,
+    s: rows(ps), h: rows(ph), l: rows(pl), y: rows(py), w: rows(pw),
+    b: new Float64Array(buffer, pb, k),
     g: new Float64Array(buffer, pg, k),
     H: new Float64Array(buffer, pH, k * kp),
     acc: new Float64Array(2),
-    ps, ph, pg, pH
+    t: new Float64Array(3),
+    ps, ph, pl, py, pw, pb, pg, pH
   }
 }
 
 /**
- * The fused pass over rows [start, end) — `evaluateRange`'s results, the same doubles — with the link terms formed
- * here a block at a time and summed by the kernel. Adds to g and the lower triangle of H (k×k); returns [ℓ, rows
- * predicted perfectly].
+ * The probit link's terms of rows [a, e) by the kernel (`probitTerms`), into run.s and run.h; adds ℓ and the perfectly
+ * predicted rows to run.acc. Rows the kernel leaves (|x'b| ≥ 3, where the normal tail needs the continued fraction,
+ * and an odd last row) are done here by the link's own `obsTerms`. The terms agree with `obsTerms` to a few units in
+ * the last place (tests/unit/server/pass-kernel.test.ts), not bit for bit: exp and log are the kernel's own.
  */
-export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, run: KernelRunner, g: Float64Array, H: Float64Array): [number, number] {
+function probitTermsByKernel(design: Design, link: Link, a: number, e: number, run: KernelRunner): void {
+  const { k, X, y, w } = design
+  const rows = e - a
+  run.y.set(y.subarray(a, e))
+  if (w) run.w.set(w.subarray(a, e))
+  run.probitTerms(X.byteOffset + a * k * 8, run.pb, k, run.py, run.pw, w ? 1 : 0, run.ps, run.ph, run.pl, rows)
+  const { s, h, l, b, t } = run
+  let ll = run.acc[0]!
+  let perfect = run.acc[1]!
+  for (let r = 0; r < rows; r++) {
+    let lr = l[r]!
+    const wr = w ? w[a + r]! : 1
+    if (lr !== lr) {
+      const off = (a + r) * k
+      let eta = 0
+      for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
+      link.obsTerms(eta, y[a + r]!, t)
+      lr = t[0]!
+      s[r] = wr * t[1]!
+      h[r] = wr * t[2]!
+    }
+    ll += wr * lr
+    if (lr > -1e-10) perfect++
+  }
+  run.acc[0] = ll
+  run.acc[1] = perfect
+}
+
+/**
+ * The fused pass over rows [start, end) with the score and Hessian sums formed by the kernel, a block of rows at a
+ * time. The link terms: for probit by the kernel too (`probitTermsByKernel`) unless `jsLink`; else `linkTermsRange`,
+ * and then the results are `evaluateRange`'s, the same doubles. Adds to g and the lower triangle of H (k×k); returns
+ * [ℓ, rows predicted perfectly].
+ */
+export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, run: KernelRunner, g: Float64Array, H: Float64Array, jsLink = false): [number, number] {
   const { k, X } = design
   const kp = run.layout.kp
+  const byKernel = link.name === 'probit' && !jsLink
   run.g.fill(0)
   run.H.fill(0)
   run.acc.fill(0)
+  run.b.set(b)
   for (let a = start; a < end; a += KERNEL_BLOCK_ROWS) {
     const e = Math.min(end, a + KERNEL_BLOCK_ROWS)
-    linkTermsRange(design, link, b, a, e, run.s, run.h, run.acc)
+    if (byKernel) probitTermsByKernel(design, link, a, e, run)
+    else linkTermsRange(design, link, b, a, e, run.s, run.h, run.acc)
     run.accumulate(X.byteOffset + a * k * 8, run.ps, run.ph, e - a, k, kp, run.pg, run.pH)
   }
   for (let j = 0; j < k; j++) {

@@ -28,6 +28,8 @@ function design(n: number, covariates: number, seed: number, weighted: boolean) 
   return designFromMatrix(X, y, Array.from({ length: covariates }, (_, j) => `x${j + 1}`), { weights })
 }
 
+// The probit terms' tolerance: a few units in the last place (the largest seen: 2.7 units, 6e-16 relative).
+const TOL = 1e-15
 describe('the pass kernel (WebAssembly)', () => {
   it('is the assembly of its text: the bytes the server loads match pass-kernel.wat', async () => {
     const committed = readFileSync(new URL('../../../server/workers/pass-kernel-wasm.ts', import.meta.url), 'utf8')
@@ -58,7 +60,7 @@ describe('the pass kernel (WebAssembly)', () => {
         const js = evaluateRange(d, link, b, start, end, gJs, hJs)
         const g = new Float64Array(k)
         const H = new Float64Array(k * k)
-        const wasm = evaluateRangeWithKernel(d, link, b, start, end, kernelRunner(layout!, thread), g, H)
+        const wasm = evaluateRangeWithKernel(d, link, b, start, end, kernelRunner(layout!, thread), g, H, true)
         expect(wasm).toEqual(js)
         expect(Array.from(g)).toEqual(Array.from(gJs))
         expect(Array.from(H)).toEqual(Array.from(hJs))
@@ -67,6 +69,62 @@ describe('the pass kernel (WebAssembly)', () => {
       }
     })
   }
+
+  it('forms the probit link\'s terms as the link does, to a few units in the last place, for every η and outcome', () => {
+    // η_i = x_i (b = [0, 1]) over a grid that crosses 0 and the kernel's limit |η| = 3 (past it the caller computes).
+    const etas = [...Array.from({ length: 2001 }, (_, i) => -8 + (16 * i) / 2000), 0, -0, 1e-300, -1e-300, 2.9999999999, -2.9999999999, 3, -3, 0.5, -0.5]
+    const n = etas.length * 2
+    const X = new Float64Array(kernelArrayBuffer(n * 2 * 8), 0, n * 2)
+    const y = new Float64Array(n)
+    etas.forEach((eta, i) => {
+      for (const outcome of [0, 1]) {
+        const r = 2 * i + outcome
+        X[2 * r] = 1
+        X[2 * r + 1] = eta
+        y[r] = outcome
+      }
+    })
+    const weights = Float64Array.from({ length: n }, (_, i) => 0.5 + (i % 7) / 3)
+    for (const weighted of [false, true]) {
+      const d = designFromMatrix(X, y, ['x'], weighted ? { weights } : {})
+      const run = kernelRunner(prepareKernel(d.X, 2, 1)!, 0)
+      const link = getLink('probit')
+      evaluateRangeWithKernel(d, link, [0, 1], 0, n, run, new Float64Array(2), new Float64Array(4))
+      const t = new Float64Array(3)
+      let byKernel = 0
+      for (let r = 0; r < n; r++) {
+        link.obsTerms(X[2 * r + 1]!, y[r]!, t)
+        const wr = weighted ? weights[r]! : 1
+        const close = (got: number, want: number) => expect(Math.abs(got - want)).toBeLessThanOrEqual(TOL * Math.abs(want) + 1e-300)
+        close(run.s[r]!, wr * t[1]!)
+        close(run.h[r]!, wr * t[2]!)
+        if (!Number.isNaN(run.l[r]!)) {
+          byKernel++
+          close(run.l[r]!, t[0]!)
+        }
+        else expect(Math.abs(X[2 * r + 1]!) >= 3 || r === n - 1).toBe(true)
+      }
+      // The kernel did the rows within its limit (every one but |η| ≥ 3).
+      expect(byKernel).toBe(2 * etas.filter(e => Math.abs(e) < 3).length)
+    }
+  })
+
+  it('gives on probit the JavaScript pass\'s sums to rounding (1e-13)', () => {
+    const d = design(20_003, 10, 41, true)
+    const link = getLink('probit')
+    const b = Float64Array.from({ length: d.k }, (_, j) => (j === 0 ? -0.2 : 0.03 * ((j % 5) - 2)))
+    const gJs = new Float64Array(d.k)
+    const hJs = new Float64Array(d.k * d.k)
+    const [llJs, perfectJs] = evaluateRange(d, link, b, 0, d.n, gJs, hJs)
+    const g = new Float64Array(d.k)
+    const H = new Float64Array(d.k * d.k)
+    const [ll, perfect] = evaluateRangeWithKernel(d, link, b, 0, d.n, kernelRunner(prepareKernel(d.X, d.k, 1)!, 0), g, H)
+    expect(Math.abs(ll - llJs)).toBeLessThan(1e-13 * Math.abs(llJs))
+    expect(perfect).toBe(perfectJs)
+    const scale = Math.max(...hJs.map(Math.abs))
+    g.forEach((v, j) => expect(Math.abs(v - gJs[j]!)).toBeLessThan(1e-13 * Math.max(1, Math.abs(gJs[j]!))))
+    H.forEach((v, j) => expect(Math.abs(v - hJs[j]!)).toBeLessThan(1e-13 * scale))
+  })
 
   it('reads a design built in a kernel memory in place, and copies any other', () => {
     const d = design(1000, 3, 5, false)
