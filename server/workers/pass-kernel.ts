@@ -74,7 +74,7 @@ export function prepareKernel(X: Float64Array, k: number, threads: number): Kern
   const memory = X.byteOffset === 0 ? memories.get(X.buffer) : undefined
   if (!memory) return null
   const kp = k + (k % 2)
-  const perThread = align16(KERNEL_BLOCK_ROWS * 8) * BLOCK_ARRAYS + align16(k * 8) * 2 + align16(k * kp * 8)
+  const perThread = align16(KERNEL_BLOCK_ROWS * 8) * BLOCK_ARRAYS + align16(kp * 8) + align16(k * 8) + align16(k * kp * 8)
   const scratch = align16(X.byteLength + 16)
   const needed = scratch + threads * perThread
   const have = memory.buffer.byteLength
@@ -129,7 +129,7 @@ export function kernelRunner(layout: KernelLayout, index: number): KernelRunner 
   const py = pl + block
   const pw = py + block
   const pb = pw + block
-  const pg = pb + align16(k * 8)
+  const pg = pb + align16(kp * 8)
   const pH = pg + align16(k * 8)
   const rows = (at: number) => new Float64Array(buffer, at, KERNEL_BLOCK_ROWS)
   return {
@@ -137,7 +137,8 @@ export function kernelRunner(layout: KernelLayout, index: number): KernelRunner 
     accumulate: instance.exports.accumulate as Accumulate,
     probitTerms: instance.exports.probitTerms as ProbitTerms,
     s: rows(ps), h: rows(ph), l: rows(pl), y: rows(py), w: rows(pw),
-    b: new Float64Array(buffer, pb, k),
+    // kp cells: the one past b stays 0 (see probitTerms)
+    b: new Float64Array(buffer, pb, kp),
     g: new Float64Array(buffer, pg, k),
     H: new Float64Array(buffer, pH, k * kp),
     acc: new Float64Array(2),
@@ -193,6 +194,7 @@ export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike
   run.g.fill(0)
   run.H.fill(0)
   run.acc.fill(0)
+  run.b.fill(0)
   run.b.set(b)
   for (let a = start; a < end; a += KERNEL_BLOCK_ROWS) {
     const e = Math.min(end, a + KERNEL_BLOCK_ROWS)

@@ -128,7 +128,8 @@
   ;; count, gets NaN in l and is done by the caller in JavaScript. exp: range reduction by ln 2 and the Taylor
   ;; polynomial of degree 13 (truncation below 1e-17 for |r| ≤ ln 2 / 2); log: the exponent split off and
   ;; 2·atanh((m − 1)/(m + 1)) to degree 23 (truncation below 1e-17 for m in [√½, √2]).
-  ;; y and the weights are copied into this memory by the caller (the design keeps them elsewhere); b at pb.
+  ;; y and the weights are copied into this memory by the caller (the design keeps them elsewhere); b at pb, with a
+  ;; zero after it when k is odd.
   (func (export "probitTerms")
     (param $px i32) (param $pb i32) (param $k i32) (param $py i32) (param $pw i32) (param $weighted i32)
     (param $ps i32) (param $ph i32) (param $pl i32) (param $rows i32)
@@ -136,24 +137,27 @@
     (local $eta v128) (local $q v128) (local $s v128) (local $a v128) (local $ok v128) (local $neg v128)
     (local $r v128) (local $z v128) (local $kf v128) (local $rr v128) (local $e v128) (local $upper v128) (local $w1 v128)
     (local $arg v128) (local $bits v128) (local $m v128) (local $big v128) (local $ex v128) (local $t v128) (local $t2 v128)
-    (local $lg v128) (local $ll v128) (local $lambda v128) (local $w v128)
+    (local $lg v128) (local $ll v128) (local $lambda v128) (local $w v128) (local $d1 v128) (local $d2 v128) (local $bj v128)
     (local.set $kb (i32.shl (local.get $k) (i32.const 3)))
     (local.set $x1 (local.get $px))
     (block $pairs_done
       (loop $pairs
         (br_if $pairs_done (i32.gt_s (i32.add (local.get $i) (i32.const 2)) (local.get $rows)))
         (local.set $x2 (i32.add (local.get $x1) (local.get $kb)))
-        ;; η of both rows
-        (local.set $eta (v128.const f64x2 0 0))
+        ;; η of both rows: each row's cells in pairs against b's (b has a 0 after its last cell, for the pair that
+        ;; reads one double past a row of odd length), the two lanes added at the end
+        (local.set $d1 (v128.const f64x2 0 0))
+        (local.set $d2 (v128.const f64x2 0 0))
         (local.set $jb (i32.const 0))
         (loop $dot
-          (local.set $eta (f64x2.add (local.get $eta)
-            (f64x2.mul
-              (f64x2.replace_lane 1 (f64x2.splat (f64.load (i32.add (local.get $x1) (local.get $jb))))
-                (f64.load (i32.add (local.get $x2) (local.get $jb))))
-              (f64x2.splat (f64.load (i32.add (local.get $pb) (local.get $jb)))))))
-          (local.set $jb (i32.add (local.get $jb) (i32.const 8)))
+          (local.set $bj (v128.load (i32.add (local.get $pb) (local.get $jb))))
+          (local.set $d1 (f64x2.add (local.get $d1) (f64x2.mul (v128.load (i32.add (local.get $x1) (local.get $jb))) (local.get $bj))))
+          (local.set $d2 (f64x2.add (local.get $d2) (f64x2.mul (v128.load (i32.add (local.get $x2) (local.get $jb))) (local.get $bj))))
+          (local.set $jb (i32.add (local.get $jb) (i32.const 16)))
           (br_if $dot (i32.lt_s (local.get $jb) (local.get $kb))))
+        (local.set $eta (f64x2.replace_lane 1
+          (f64x2.splat (f64.add (f64x2.extract_lane 0 (local.get $d1)) (f64x2.extract_lane 1 (local.get $d1))))
+          (f64.add (f64x2.extract_lane 0 (local.get $d2)) (f64x2.extract_lane 1 (local.get $d2)))))
         (local.set $cell (i32.shl (local.get $i) (i32.const 3)))
         ;; q = 2y − 1, s = q·η, a = |s|
         (local.set $q (f64x2.sub (f64x2.add (v128.load (i32.add (local.get $py) (local.get $cell))) (v128.load (i32.add (local.get $py) (local.get $cell)))) (v128.const f64x2 1 1)))
