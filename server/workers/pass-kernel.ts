@@ -89,8 +89,8 @@ export function prepareKernel(X: Float64Array, k: number, threads: number): Kern
   return { memory, k, kp, scratch, perThread }
 }
 
-type Accumulate = (px: number, ps: number, ph: number, rows: number, k: number, kp: number, pg: number, pH: number) => void
-type ProbitTerms = (px: number, pb: number, k: number, py: number, pw: number, weighted: number, ps: number, ph: number, pl: number, rows: number) => void
+type Accumulate = (px: number, step: number, ps: number, ph: number, rows: number, k: number, kp: number, pg: number, pH: number) => void
+type ProbitTerms = (px: number, step: number, pb: number, k: number, py: number, pw: number, weighted: number, ps: number, ph: number, pl: number, rows: number) => void
 
 /** One thread's instance of the kernel and views of its scratch. */
 export interface KernelRunner {
@@ -148,28 +148,35 @@ export function kernelRunner(layout: KernelLayout, index: number): KernelRunner 
 }
 
 /**
- * The probit link's terms of rows [a, e) by the kernel (`probitTerms`), into run.s and run.h; adds ℓ and the perfectly
- * predicted rows to run.acc. Rows the kernel leaves (|x'b| ≥ 3, where the normal tail needs the continued fraction,
- * and an odd last row) are done here by the link's own `obsTerms`. The terms agree with `obsTerms` to a few units in
- * the last place (tests/unit/server/pass-kernel.test.ts), not bit for bit: exp and log are the kernel's own.
+ * The probit link's terms of `rows` rows from row a, `step` apart, by the kernel (`probitTerms`), into run.s and
+ * run.h; adds ℓ and the perfectly predicted rows to run.acc. Rows the kernel leaves (|x'b| ≥ 3, where the normal
+ * tail needs the continued fraction, and an odd last row) are done here by the link's own `obsTerms`. The terms agree
+ * with `obsTerms` to a few units in the last place (tests/unit/server/pass-kernel.test.ts), not bit for bit: exp and
+ * log are the kernel's own.
  */
-function probitTermsByKernel(design: Design, link: Link, a: number, e: number, run: KernelRunner): void {
+function probitTermsByKernel(design: Design, link: Link, a: number, rows: number, step: number, run: KernelRunner): void {
   const { k, X, y, w } = design
-  const rows = e - a
-  run.y.set(y.subarray(a, e))
-  if (w) run.w.set(w.subarray(a, e))
-  run.probitTerms(X.byteOffset + a * k * 8, run.pb, k, run.py, run.pw, w ? 1 : 0, run.ps, run.ph, run.pl, rows)
+  if (step === 1) {
+    run.y.set(y.subarray(a, a + rows))
+    if (w) run.w.set(w.subarray(a, a + rows))
+  }
+  else {
+    for (let r = 0; r < rows; r++) run.y[r] = y[a + r * step]!
+    if (w) for (let r = 0; r < rows; r++) run.w[r] = w[a + r * step]!
+  }
+  run.probitTerms(X.byteOffset + a * k * 8, step * k * 8, run.pb, k, run.py, run.pw, w ? 1 : 0, run.ps, run.ph, run.pl, rows)
   const { s, h, l, b, t } = run
   let ll = run.acc[0]!
   let perfect = run.acc[1]!
   for (let r = 0; r < rows; r++) {
     let lr = l[r]!
-    const wr = w ? w[a + r]! : 1
+    const i = a + r * step
+    const wr = w ? w[i]! : 1
     if (lr !== lr) {
-      const off = (a + r) * k
+      const off = i * k
       let eta = 0
       for (let j = 0; j < k; j++) eta += X[off + j]! * b[j]!
-      link.obsTerms(eta, y[a + r]!, t)
+      link.obsTerms(eta, y[i]!, t)
       lr = t[0]!
       s[r] = wr * t[1]!
       h[r] = wr * t[2]!
@@ -181,26 +188,36 @@ function probitTermsByKernel(design: Design, link: Link, a: number, e: number, r
   run.acc[1] = perfect
 }
 
+/** Whether `evaluateRangeWithKernel` takes rows `step` apart for this link (only the probit terms do, by the kernel). */
+export function kernelTakesStep(link: Link, step: number): boolean {
+  return step === 1 || link.name === 'probit'
+}
+
 /**
- * The fused pass over rows [start, end) with the score and Hessian sums formed by the kernel, a block of rows at a
- * time. The link terms: for probit by the kernel too (`probitTermsByKernel`) unless `jsLink`; else `linkTermsRange`,
- * and then the results are `evaluateRange`'s, the same doubles. Adds to g and the lower triangle of H (k×k); returns
- * [ℓ, rows predicted perfectly].
+ * The fused pass over rows [start, end) — with `step` > 1 over the rows of that range that are multiples of
+ * `step` (the starting values' subsample, fit.ts; probit only, see `kernelTakesStep`) — with the score and Hessian sums
+ * formed by the kernel, a block of rows at a time. The link terms: for probit by the kernel too (`probitTermsByKernel`)
+ * unless `jsLink`; else `linkTermsRange`, and then the results are `evaluateRange`'s, the same doubles. Adds to g and the
+ * lower triangle of H (k×k); returns [ℓ, rows predicted perfectly].
  */
-export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, run: KernelRunner, g: Float64Array, H: Float64Array, jsLink = false): [number, number] {
+export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, run: KernelRunner, g: Float64Array, H: Float64Array, jsLink = false, step = 1): [number, number] {
   const { k, X } = design
   const kp = run.layout.kp
   const byKernel = link.name === 'probit' && !jsLink
+  if (step !== 1 && !byKernel) throw new Error('rows a step apart are for the probit kernel only')
   run.g.fill(0)
   run.H.fill(0)
   run.acc.fill(0)
   run.b.fill(0)
   run.b.set(b)
-  for (let a = start; a < end; a += KERNEL_BLOCK_ROWS) {
-    const e = Math.min(end, a + KERNEL_BLOCK_ROWS)
-    if (byKernel) probitTermsByKernel(design, link, a, e, run)
-    else linkTermsRange(design, link, b, a, e, run.s, run.h, run.acc)
-    run.accumulate(X.byteOffset + a * k * 8, run.ps, run.ph, e - a, k, kp, run.pg, run.pH)
+  const first = Math.ceil(start / step) * step
+  const count = first < end ? Math.floor((end - 1 - first) / step) + 1 : 0
+  for (let done = 0; done < count; done += KERNEL_BLOCK_ROWS) {
+    const a = first + done * step
+    const rows = Math.min(KERNEL_BLOCK_ROWS, count - done)
+    if (byKernel) probitTermsByKernel(design, link, a, rows, step, run)
+    else linkTermsRange(design, link, b, a, a + rows, run.s, run.h, run.acc)
+    run.accumulate(X.byteOffset + a * k * 8, step * k * 8, run.ps, run.ph, rows, k, kp, run.pg, run.pH)
   }
   for (let j = 0; j < k; j++) {
     g[j]! += run.g[j]!

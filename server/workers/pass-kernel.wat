@@ -4,7 +4,8 @@
 ;; accumulate:
 ;;   g[j]    += Σ_i s_i x_ij          H[j][m] += Σ_i h_i x_ij x_im   (m ≤ j, the lower triangle)
 ;;
-;; for rows [0, rows) of a row-major matrix X (k doubles per row), where s_i and h_i are the rows' weighted first and
+;; for `rows` rows of a row-major matrix X (k doubles per row), `step` bytes apart (k·8 for consecutive rows; the
+;; starting values' subsample takes every s-th row, fit.ts), where s_i and h_i are the rows' weighted first and
 ;; second derivatives of the log-likelihood, computed beforehand in JavaScript (likelihood.ts, `linkTermsRange`).
 ;; Why WebAssembly: this is 66 multiply-adds per row at k = 11 and it was half of every pass; V8 runs the same loop in
 ;; JavaScript one double at a time, while here each instruction does two cells of H. Measured at 10^6 × 11 on this
@@ -25,7 +26,7 @@
 (module
   (memory (import "env" "memory") 1 65536 shared)
   (func (export "accumulate")
-    (param $px i32) (param $ps i32) (param $ph i32) (param $rows i32) (param $k i32) (param $kp i32)
+    (param $px i32) (param $step i32) (param $ps i32) (param $ph i32) (param $rows i32) (param $k i32) (param $kp i32)
     (param $pg i32) (param $pH i32)
     (local $i i32) (local $jb i32) (local $mb i32) (local $kb i32) (local $hrow i32) (local $hstep i32) (local $cell i32)
     (local $x1 i32) (local $x2 i32) (local $x3 i32) (local $x4 i32)
@@ -40,9 +41,9 @@
     (block $quads_done
       (loop $quads
         (br_if $quads_done (i32.gt_s (i32.add (local.get $i) (i32.const 4)) (local.get $rows)))
-        (local.set $x2 (i32.add (local.get $x1) (local.get $kb)))
-        (local.set $x3 (i32.add (local.get $x2) (local.get $kb)))
-        (local.set $x4 (i32.add (local.get $x3) (local.get $kb)))
+        (local.set $x2 (i32.add (local.get $x1) (local.get $step)))
+        (local.set $x3 (i32.add (local.get $x2) (local.get $step)))
+        (local.set $x4 (i32.add (local.get $x3) (local.get $step)))
         (local.set $cell (i32.shl (local.get $i) (i32.const 3)))
         (local.set $s1 (f64.load offset=0 (i32.add (local.get $ps) (local.get $cell))))
         (local.set $s2 (f64.load offset=8 (i32.add (local.get $ps) (local.get $cell))))
@@ -90,7 +91,7 @@
           (local.set $hrow (i32.add (local.get $hrow) (local.get $hstep)))
           (local.set $jb (i32.add (local.get $jb) (i32.const 8)))
           (br_if $columns (i32.lt_s (local.get $jb) (local.get $kb))))
-        (local.set $x1 (i32.add (local.get $x4) (local.get $kb)))
+        (local.set $x1 (i32.add (local.get $x4) (local.get $step)))
         (local.set $i (i32.add (local.get $i) (i32.const 4)))
         (br $quads)))
     ;; The last rows, one at a time.
@@ -118,10 +119,10 @@
           (local.set $hrow (i32.add (local.get $hrow) (local.get $hstep)))
           (local.set $jb (i32.add (local.get $jb) (i32.const 8)))
           (br_if $columns1 (i32.lt_s (local.get $jb) (local.get $kb))))
-        (local.set $x1 (i32.add (local.get $x1) (local.get $kb)))
+        (local.set $x1 (i32.add (local.get $x1) (local.get $step)))
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
         (br $singles))))
-  ;; The probit link's terms for rows [0, rows) of X, two rows per step: writes each row's ℓ = log Φ(q·η) (q = 2y − 1,
+  ;; The probit link's terms for `rows` rows of X, `step` bytes apart, two rows per step: writes each row's ℓ = log Φ(q·η) (q = 2y − 1,
   ;; η = x'b) to l, and its weighted dℓ/dη and d²ℓ/dη² to s and h (as `probit.obsTerms` in links.ts defines them).
   ;; Only for |q·η| < 3, where the normal tail is the rational function of normal.ts (`scaledLowerTail`) and exp and
   ;; log need no special cases (exp of (−4.5, 0], log of (0.2, 1.3]); any other row, and the last row of an odd
@@ -131,7 +132,7 @@
   ;; y and the weights are copied into this memory by the caller (the design keeps them elsewhere); b at pb, with a
   ;; zero after it when k is odd.
   (func (export "probitTerms")
-    (param $px i32) (param $pb i32) (param $k i32) (param $py i32) (param $pw i32) (param $weighted i32)
+    (param $px i32) (param $step i32) (param $pb i32) (param $k i32) (param $py i32) (param $pw i32) (param $weighted i32)
     (param $ps i32) (param $ph i32) (param $pl i32) (param $rows i32)
     (local $i i32) (local $jb i32) (local $kb i32) (local $x1 i32) (local $x2 i32) (local $cell i32)
     (local $eta v128) (local $q v128) (local $s v128) (local $a v128) (local $ok v128) (local $neg v128)
@@ -143,7 +144,7 @@
     (block $pairs_done
       (loop $pairs
         (br_if $pairs_done (i32.gt_s (i32.add (local.get $i) (i32.const 2)) (local.get $rows)))
-        (local.set $x2 (i32.add (local.get $x1) (local.get $kb)))
+        (local.set $x2 (i32.add (local.get $x1) (local.get $step)))
         ;; η of both rows: each row's cells in pairs against b's (b has a 0 after its last cell, for the pair that
         ;; reads one double past a row of odd length), the two lanes added at the end
         (local.set $d1 (v128.const f64x2 0 0))
@@ -207,7 +208,7 @@
         (v128.store (i32.add (local.get $ph) (local.get $cell))
           (f64x2.mul (local.get $w) (f64x2.neg (f64x2.mul (local.get $lambda) (f64x2.add (local.get $lambda) (local.get $s))))))
         (v128.store (i32.add (local.get $pl) (local.get $cell)) (v128.bitselect (local.get $ll) (v128.const f64x2 nan nan) (local.get $ok)))
-        (local.set $x1 (i32.add (local.get $x2) (local.get $kb)))
+        (local.set $x1 (i32.add (local.get $x2) (local.get $step)))
         (local.set $i (i32.add (local.get $i) (i32.const 2)))
         (br $pairs)))
     ;; The last row of an odd count: left to the caller.

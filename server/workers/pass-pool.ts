@@ -17,7 +17,7 @@ import {
   separationStatsLength, separationStatsRange, symmetrise,
   type Design, type DesignPlan, type LinkName, type ParallelPasses, type PassResult
 } from '../../shared/utils/stats/index'
-import { evaluateRangeWithKernel, kernelMatrix, kernelRunner, prepareKernel, type KernelLayout, type KernelRunner } from './pass-kernel'
+import { evaluateRangeWithKernel, kernelMatrix, kernelRunner, kernelTakesStep, prepareKernel, type KernelLayout, type KernelRunner } from './pass-kernel'
 
 export const PARALLEL_MIN_ROWS = 50_000
 const ROLE = 'furrowcast-pass'
@@ -44,6 +44,7 @@ const TASK_AME = 4
 const TASK_ATTACH = 5
 const TASK_DETACH = 6
 const TASK_SEPARATION = 7
+const TASK_EVALUATE_EVERY = 8
 
 interface Shared {
   n: number
@@ -104,14 +105,17 @@ function runBlock({ s, design, kernel }: Attached, t: number, task: number): voi
   const link = getLink(s.link)
   const b = params.subarray(0, k)
   const shift = params.subarray(k, 2 * k)
-  if (task === TASK_EVALUATE || task === TASK_EVALUATE_SHIFTED) {
+  if (task === TASK_EVALUATE || task === TASK_EVALUATE_SHIFTED || task === TASK_EVALUATE_EVERY) {
     const g = out.subarray(2, 2 + k)
     const H = out.subarray(2 + k, 2 + k + k * k)
-    const [ll, perfect] = task === TASK_EVALUATE_SHIFTED
-      ? evaluateRangeShifted(design, link, b, shift, start, end, g, H)
-      : kernel
-        ? evaluateRangeWithKernel(design, link, b, start, end, kernel, g, H)
-        : evaluateRange(design, link, b, start, end, g, H)
+    // Every step-th row below a limit (params after b and the shift): the subsample's rows in this chunk.
+    const [ll, perfect] = task === TASK_EVALUATE_EVERY
+      ? evaluateRangeWithKernel(design, link, b, start, Math.min(end, params[2 * k + 1]!), kernel!, g, H, false, params[2 * k]!)
+      : task === TASK_EVALUATE_SHIFTED
+        ? evaluateRangeShifted(design, link, b, shift, start, end, g, H)
+        : kernel
+          ? evaluateRangeWithKernel(design, link, b, start, end, kernel, g, H)
+          : evaluateRange(design, link, b, start, end, g, H)
     out[0] = ll
     out[1] = perfect
   }
@@ -231,7 +235,7 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
         n: design.n, k, G, m, slot, chunks, link: linkName, plan: design.plan,
         X: sharedBufferOf(X), y: sharedBufferOf(design.y), w: design.w ? sharedBufferOf(design.w) : null,
         cluster: design.cluster ? sharedBufferOf(design.cluster) : null, kernel: prepareKernel(X, k, threads),
-        control: control.buffer as SharedArrayBuffer, params: new SharedArrayBuffer(2 * k * 8), results: new SharedArrayBuffer(chunks.length * slot * 8)
+        control: control.buffer as SharedArrayBuffer, params: new SharedArrayBuffer((2 * k + 2) * 8), results: new SharedArrayBuffer(chunks.length * slot * 8)
       }
       const attached = attachedOf(shared, 0)
       const mine = attached.design
@@ -245,14 +249,31 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
       waitHelpers()
       const params = new Float64Array(shared.params)
 
-      function run(task: number, b: ArrayLike<number>, shift: ArrayLike<number> | null): Float64Array[] {
+      function run(task: number, b: ArrayLike<number>, shift: ArrayLike<number> | null, every: [number, number] | null = null): Float64Array[] {
         params.fill(0)
         params.set(b, 0)
         if (shift) params.set(shift, k)
+        if (every) params.set(every, 2 * k)
         signal(task)
         runChunks(attached, control, task)
         waitHelpers()
         return chunks.map((_, t) => new Float64Array(shared.results, t * slot * 8, slot))
+      }
+
+      /** The chunks' partial ℓ, g and lower triangles of H, added in chunk order. */
+      function sumEvaluate(parts: Float64Array[]): PassResult {
+        const g = new Float64Array(k)
+        const H = new Float64Array(k * k)
+        let ll = 0
+        let perfect = 0
+        for (const p of parts) {
+          ll += p[0]!
+          perfect += p[1]!
+          for (let j = 0; j < k; j++) g[j]! += p[2 + j]!
+          for (let j = 0; j < k * k; j++) H[j]! += p[2 + k + j]!
+        }
+        symmetrise(H, k)
+        return { loglik: ll, gradient: g, hessian: H, perfectlyPredicted: perfect }
       }
 
       return {
@@ -261,20 +282,11 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
           return mergeSeparationStats(run(TASK_SEPARATION, [], null), k)
         },
         evaluate(b, shift): PassResult {
-          const parts = run(shift ? TASK_EVALUATE_SHIFTED : TASK_EVALUATE, b, shift)
-          const g = new Float64Array(k)
-          const H = new Float64Array(k * k)
-          let ll = 0
-          let perfect = 0
-          for (const p of parts) {
-            ll += p[0]!
-            perfect += p[1]!
-            for (let j = 0; j < k; j++) g[j]! += p[2 + j]!
-            for (let j = 0; j < k * k; j++) H[j]! += p[2 + k + j]!
-          }
-          symmetrise(H, k)
-          return { loglik: ll, gradient: g, hessian: H, perfectlyPredicted: perfect }
+          return sumEvaluate(run(shift ? TASK_EVALUATE_SHIFTED : TASK_EVALUATE, b, shift))
         },
+        evaluateEvery: shared.kernel && kernelTakesStep(getLink(linkName), 2)
+          ? (step, end, b) => sumEvaluate(run(TASK_EVALUATE_EVERY, b, null, [step, end]))
+          : null,
         clusterScores(b, shift) {
           const parts = run(TASK_CLUSTER, b, shift)
           const U = new Float64Array(G * k)

@@ -15,6 +15,11 @@ export interface ParallelPasses {
   separationStats: () => Float64Array
   /** The fused pass: ℓ, g and H at b (in shifted coordinates when `shift` is given, see likelihood.ts). */
   evaluate: (b: Float64Array, shift: Float64Array | null) => PassResult
+  /**
+   * The fused pass over rows 0, step, 2·step, … below `end` only (the starting values' subsample, fit.ts), unshifted;
+   * null when this host cannot (then the subsample is fitted on the calling thread, over its own copy).
+   */
+  evaluateEvery: ((step: number, end: number, b: Float64Array) => PassResult) | null
   /** Per-cluster score sums U (G×k, row-major) at b̃ with the design's shift (zeros when none). */
   clusterScores: (b: Float64Array, shift: Float64Array) => Float64Array
   /** Average marginal effects' sums: Σ w, Σ w·effect, Σ w·∂effect/∂b (m×k), at b. */

@@ -126,6 +126,32 @@ describe('the pass kernel (WebAssembly)', () => {
     H.forEach((v, j) => expect(Math.abs(v - hJs[j]!)).toBeLessThan(1e-13 * scale))
   })
 
+  it('takes every s-th row in place as the subsample\'s copy gives it (the starting values\' fit on the pool)', () => {
+    const d = design(30_011, 6, 53, true)
+    const link = getLink('probit')
+    const b = Float64Array.from({ length: d.k }, (_, j) => (j === 0 ? 0.1 : -0.04 * j))
+    const run = kernelRunner(prepareKernel(d.X, d.k, 1)!, 0)
+    for (const [step, start, end] of [[7, 0, 30_011], [20, 1_001, 29_000], [3, 4, 400]] as const) {
+      // The rows the pass should take: multiples of step in [start, end), copied into a design of their own.
+      const rows = Array.from({ length: d.n }, (_, i) => i).filter(i => i % step === 0 && i >= start && i < end)
+      const copy = designFromMatrix(Float64Array.from(rows.flatMap(i => Array.from(d.X.subarray(i * d.k, (i + 1) * d.k)))),
+        Float64Array.from(rows, i => d.y[i]!), Array.from({ length: 6 }, (_, j) => `x${j + 1}`), { weights: Float64Array.from(rows, i => d.w![i]!) })
+      const gJs = new Float64Array(d.k)
+      const hJs = new Float64Array(d.k * d.k)
+      const [llJs] = evaluateRange(copy, link, b, 0, copy.n, gJs, hJs)
+      const g = new Float64Array(d.k)
+      const H = new Float64Array(d.k * d.k)
+      const [ll] = evaluateRangeWithKernel(d, link, b, start, end, run, g, H, false, step)
+      expect(Math.abs(ll - llJs)).toBeLessThanOrEqual(1e-13 * Math.abs(llJs))
+      g.forEach((v, j) => expect(Math.abs(v - gJs[j]!)).toBeLessThanOrEqual(1e-13 * Math.max(1, Math.abs(gJs[j]!))))
+      H.forEach((v, j) => expect(Math.abs(v - hJs[j]!)).toBeLessThanOrEqual(1e-13 * Math.max(1, Math.abs(hJs[j]!))))
+    }
+    // A range holding no multiple of the step adds nothing.
+    const g = new Float64Array(d.k)
+    expect(evaluateRangeWithKernel(d, link, b, 4, 5, run, g, new Float64Array(d.k * d.k), false, 3)).toEqual([0, 0])
+    expect(Array.from(g)).toEqual(Array.from(new Float64Array(d.k)))
+  })
+
   it('reads a design built in a kernel memory in place, and copies any other', () => {
     const d = design(1000, 3, 5, false)
     expect(kernelMatrix(d.X)).toBe(d.X)
