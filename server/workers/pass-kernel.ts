@@ -17,6 +17,8 @@ import { PASS_KERNEL_WASM } from './pass-kernel-wasm'
 export const KERNEL_BLOCK_ROWS = 4096
 /** The block's arrays in each thread's scratch: s, h, ℓ, y, w. */
 const BLOCK_ARRAYS = 5
+/** The separation check's running figures per column (see `separationStats` in pass-kernel.wat). */
+const SEPARATION_PLANES = 7
 const PAGE = 65536
 /** Pages past the data for the scratch (4 MB): 4 threads at k = 300 need 3.1 MB. */
 const HEADROOM_PAGES = 64
@@ -74,7 +76,7 @@ export function prepareKernel(X: Float64Array, k: number, threads: number): Kern
   const memory = X.byteOffset === 0 ? memories.get(X.buffer) : undefined
   if (!memory) return null
   const kp = k + (k % 2)
-  const perThread = align16(KERNEL_BLOCK_ROWS * 8) * BLOCK_ARRAYS + align16(kp * 8) + align16(k * 8) + align16(k * kp * 8)
+  const perThread = align16(KERNEL_BLOCK_ROWS * 8) * BLOCK_ARRAYS + align16(kp * 8) + align16(k * 8) + align16(k * kp * 8) + align16(SEPARATION_PLANES * kp * 8)
   const scratch = align16(X.byteLength + 16)
   const needed = scratch + threads * perThread
   const have = memory.buffer.byteLength
@@ -90,6 +92,7 @@ export function prepareKernel(X: Float64Array, k: number, threads: number): Kern
 }
 
 type Accumulate = (px: number, step: number, ps: number, ph: number, rows: number, k: number, kp: number, pg: number, pH: number) => void
+type SeparationStats = (px: number, k: number, kp: number, py: number, rows: number, pst: number) => void
 type ProbitTerms = (px: number, step: number, pb: number, k: number, py: number, pw: number, weighted: number, ps: number, ph: number, pl: number, rows: number) => void
 
 /** One thread's instance of the kernel and views of its scratch. */
@@ -97,6 +100,7 @@ export interface KernelRunner {
   layout: KernelLayout
   accumulate: Accumulate
   probitTerms: ProbitTerms
+  separationStats: SeparationStats
   s: Float64Array
   h: Float64Array
   l: Float64Array
@@ -105,6 +109,7 @@ export interface KernelRunner {
   b: Float64Array
   g: Float64Array
   H: Float64Array
+  stats: Float64Array
   acc: Float64Array
   t: Float64Array
   ps: number
@@ -115,6 +120,7 @@ export interface KernelRunner {
   pb: number
   pg: number
   pH: number
+  pst: number
 }
 
 /** Thread `index`'s runner (0 is the pool's caller, helpers count from 1). */
@@ -131,19 +137,22 @@ export function kernelRunner(layout: KernelLayout, index: number): KernelRunner 
   const pb = pw + block
   const pg = pb + align16(kp * 8)
   const pH = pg + align16(k * 8)
+  const pst = pH + align16(k * kp * 8)
   const rows = (at: number) => new Float64Array(buffer, at, KERNEL_BLOCK_ROWS)
   return {
     layout,
     accumulate: instance.exports.accumulate as Accumulate,
     probitTerms: instance.exports.probitTerms as ProbitTerms,
+    separationStats: instance.exports.separationStats as SeparationStats,
     s: rows(ps), h: rows(ph), l: rows(pl), y: rows(py), w: rows(pw),
     // kp cells: the one past b stays 0 (see probitTerms)
     b: new Float64Array(buffer, pb, kp),
     g: new Float64Array(buffer, pg, k),
     H: new Float64Array(buffer, pH, k * kp),
+    stats: new Float64Array(buffer, pst, SEPARATION_PLANES * kp),
     acc: new Float64Array(2),
     t: new Float64Array(3),
-    ps, ph, pl, py, pw, pb, pg, pH
+    ps, ph, pl, py, pw, pb, pg, pH, pst
   }
 }
 
@@ -224,4 +233,32 @@ export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike
     for (let m = 0; m <= j; m++) H[j * k + m]! += run.H[j * kp + m]!
   }
   return [run.acc[0]!, run.acc[1]!]
+}
+
+/**
+ * The separation check's column statistics over rows [start, end) — `separationStatsRange`'s, into `out` in its
+ * layout — formed by the kernel a block of rows at a time. The intercept's figures are left as that function leaves
+ * them (it skips column 0).
+ */
+export function separationStatsWithKernel(design: Design, start: number, end: number, run: KernelRunner, out: Float64Array): void {
+  const { k, X, y } = design
+  const kp = run.layout.kp
+  const st = run.stats
+  for (let plane = 0; plane < SEPARATION_PLANES; plane++) st.subarray(plane * kp, (plane + 1) * kp).fill(plane === 0 || plane === 2 ? Infinity : plane === 1 || plane === 3 ? -Infinity : 0)
+  let n1 = 0
+  for (let a = start; a < end; a += KERNEL_BLOCK_ROWS) {
+    const e = Math.min(end, a + KERNEL_BLOCK_ROWS)
+    run.y.set(y.subarray(a, e))
+    for (let i = a; i < e; i++) n1 += y[i]!
+    run.separationStats(X.byteOffset + a * k * 8, k, kp, run.py, e - a, run.pst)
+  }
+  for (let plane = 0; plane < SEPARATION_PLANES; plane++) {
+    out[plane * k] = plane === 0 || plane === 2 ? Infinity : plane === 1 || plane === 3 ? -Infinity : 0
+    for (let j = 1; j < k; j++) {
+      const v = st[plane * kp + j]!
+      // The flag plane holds a mask: any bit set (a NaN pattern) is 1.
+      out[plane * k + j] = plane === SEPARATION_PLANES - 1 ? (v !== 0 ? 1 : 0) : v
+    }
+  }
+  out[7 * k] = n1
 }

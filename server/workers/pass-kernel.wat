@@ -1,5 +1,6 @@
 ;; The fused likelihood pass's arithmetic in WebAssembly with 128-bit SIMD (two doubles per instruction):
-;; `accumulate`, the score and Hessian sums for any link, and `probitTerms`, the probit link's per-row terms.
+;; `accumulate`, the score and Hessian sums for any link, `probitTerms`, the probit link's per-row terms, and
+;; `separationStats`, the column statistics of the separation check.
 ;;
 ;; accumulate:
 ;;   g[j]    += Σ_i s_i x_ij          H[j][m] += Σ_i h_i x_ij x_im   (m ≤ j, the lower triangle)
@@ -214,4 +215,56 @@
     ;; The last row of an odd count: left to the caller.
     (if (i32.lt_s (local.get $i) (local.get $rows))
       (then (f64.store (i32.add (local.get $pl) (i32.shl (local.get $i) (i32.const 3))) (f64.const nan)))))
+
+  ;; The separation check's column statistics (separation.ts, `separationStatsRange`) for `rows` consecutive rows of
+  ;; X, two columns per instruction, added to the running figures at pst: seven rows of kp doubles, the columns'
+  ;; minimum and maximum among ones, minimum and maximum among zeros, sum among ones, sum among zeros, and a flag
+  ;; (any bit set) for a value other than 0 and 1. A block of rows is taken one pair of columns at a time, so the
+  ;; figures stay in registers. pmin and pmax keep the first of equal values, as the JavaScript's `x < min` does, and
+  ;; the sums add the rows in row order, so the figures are the JavaScript's (zeros may differ in sign). The last pair
+  ;; of an odd k reads one double past each row (the next row's intercept): its spare column is ignored by the caller.
+  (func (export "separationStats")
+    (param $px i32) (param $k i32) (param $kp i32) (param $py i32) (param $rows i32) (param $pst i32)
+    (local $jb i32) (local $kb i32) (local $row i32) (local $r i32) (local $stat i32) (local $plane i32)
+    (local $x v128) (local $one v128) (local $min1 v128) (local $max1 v128) (local $min0 v128) (local $max0 v128)
+    (local $sum1 v128) (local $sum0 v128) (local $other v128)
+    (local.set $kb (i32.shl (local.get $k) (i32.const 3)))
+    (local.set $plane (i32.shl (local.get $kp) (i32.const 3)))
+    (local.set $jb (i32.const 0))
+    (loop $pairs
+      (local.set $stat (i32.add (local.get $pst) (local.get $jb)))
+      (local.set $min1 (v128.load (local.get $stat)))
+      (local.set $max1 (v128.load (i32.add (local.get $stat) (local.get $plane))))
+      (local.set $min0 (v128.load (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 2)))))
+      (local.set $max0 (v128.load (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 3)))))
+      (local.set $sum1 (v128.load (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 4)))))
+      (local.set $sum0 (v128.load (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 5)))))
+      (local.set $other (v128.load (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 6)))))
+      (local.set $row (i32.add (local.get $px) (local.get $jb)))
+      (local.set $r (i32.const 0))
+      (block $rows_done
+        (loop $rows_loop
+          (br_if $rows_done (i32.ge_s (local.get $r) (local.get $rows)))
+          (local.set $x (v128.load (local.get $row)))
+          (local.set $one (f64x2.eq (f64x2.splat (f64.load (i32.add (local.get $py) (i32.shl (local.get $r) (i32.const 3))))) (v128.const f64x2 1 1)))
+          (local.set $min1 (f64x2.pmin (local.get $min1) (v128.bitselect (local.get $x) (v128.const f64x2 inf inf) (local.get $one))))
+          (local.set $max1 (f64x2.pmax (local.get $max1) (v128.bitselect (local.get $x) (v128.const f64x2 -inf -inf) (local.get $one))))
+          (local.set $min0 (f64x2.pmin (local.get $min0) (v128.bitselect (v128.const f64x2 inf inf) (local.get $x) (local.get $one))))
+          (local.set $max0 (f64x2.pmax (local.get $max0) (v128.bitselect (v128.const f64x2 -inf -inf) (local.get $x) (local.get $one))))
+          (local.set $sum1 (f64x2.add (local.get $sum1) (v128.and (local.get $x) (local.get $one))))
+          (local.set $sum0 (f64x2.add (local.get $sum0) (v128.andnot (local.get $x) (local.get $one))))
+          (local.set $other (v128.or (local.get $other)
+            (v128.and (f64x2.ne (local.get $x) (v128.const f64x2 0 0)) (f64x2.ne (local.get $x) (v128.const f64x2 1 1)))))
+          (local.set $row (i32.add (local.get $row) (local.get $kb)))
+          (local.set $r (i32.add (local.get $r) (i32.const 1)))
+          (br $rows_loop)))
+      (v128.store (local.get $stat) (local.get $min1))
+      (v128.store (i32.add (local.get $stat) (local.get $plane)) (local.get $max1))
+      (v128.store (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 2))) (local.get $min0))
+      (v128.store (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 3))) (local.get $max0))
+      (v128.store (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 4))) (local.get $sum1))
+      (v128.store (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 5))) (local.get $sum0))
+      (v128.store (i32.add (local.get $stat) (i32.mul (local.get $plane) (i32.const 6))) (local.get $other))
+      (local.set $jb (i32.add (local.get $jb) (i32.const 16)))
+      (br_if $pairs (i32.lt_s (local.get $jb) (local.get $kb)))))
 )

@@ -17,7 +17,9 @@ import {
   separationStatsLength, separationStatsRange, symmetrise,
   type Design, type DesignPlan, type LinkName, type ParallelPasses, type PassResult
 } from '../../shared/utils/stats/index'
-import { evaluateRangeWithKernel, kernelMatrix, kernelRunner, kernelTakesStep, prepareKernel, type KernelLayout, type KernelRunner } from './pass-kernel'
+import {
+  evaluateRangeWithKernel, kernelMatrix, kernelRunner, kernelTakesStep, prepareKernel, separationStatsWithKernel, type KernelLayout, type KernelRunner
+} from './pass-kernel'
 
 export const PARALLEL_MIN_ROWS = 50_000
 const ROLE = 'furrowcast-pass'
@@ -123,7 +125,8 @@ function runBlock({ s, design, kernel }: Attached, t: number, task: number): voi
     clusterScoresRange(design, link, b, shift, start, end, out.subarray(0, s.G * k))
   }
   else if (task === TASK_SEPARATION) {
-    separationStatsRange(design, start, end, out)
+    if (kernel) separationStatsWithKernel(design, start, end, kernel, out)
+    else separationStatsRange(design, start, end, out)
   }
   else if (task === TASK_AME) {
     const effects = planEffects(design)

@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
 import { assemblePassKernel, kernelModuleSource } from '../../../scripts/lib/pass-kernel-bytes.mjs'
 import {
-  evaluateRangeWithKernel, KERNEL_BLOCK_ROWS, kernelArrayBuffer, kernelMatrix, kernelRunner, prepareKernel
+  evaluateRangeWithKernel, KERNEL_BLOCK_ROWS, kernelArrayBuffer, kernelMatrix, kernelRunner, prepareKernel, separationStatsWithKernel
 } from '../../../server/workers/pass-kernel'
 import { checkSeparation, designFromMatrix, evaluateRange, getLink, mergeSeparationStats, separationStatsLength, separationStatsRange, type LinkName } from '../../../shared/utils/stats'
 import { normal, prng } from '../../../shared/utils/random/prng'
@@ -195,4 +195,18 @@ describe('the separation check over ranges (as the pass pool runs it)', () => {
     expect(warnings.map(w => w.code)).toEqual(['quasi_complete_separation'])
     expect(warnings).toEqual(checkSeparation(d))
   })
+
+  for (const covariates of [1, 4, 9]) {
+    it(`gives, by the kernel, the figures the JavaScript gives: k = ${covariates + 1}`, () => {
+      const d = design(2 * KERNEL_BLOCK_ROWS + 5, covariates, 61 + covariates, false)
+      const run = kernelRunner(prepareKernel(d.X, d.k, 1)!, 0)
+      for (const [start, end] of [[0, d.n], [8, 4099], [100, 101]] as const) {
+        const js = new Float64Array(separationStatsLength(d.k))
+        separationStatsRange(d, start, end, js)
+        const wasm = new Float64Array(separationStatsLength(d.k))
+        separationStatsWithKernel(d, start, end, run, wasm)
+        expect(Array.from(wasm)).toEqual(Array.from(js))
+      }
+    })
+  }
 })
