@@ -7,7 +7,7 @@ import { fileURLToPath, pathToFileURL } from 'node:url'
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..')
 const OUT = path.join(ROOT, '.data', 'cli', 'fit.mjs')
-const SOURCES = ['scripts/fit.ts', 'scripts/lib/csv-columns.ts', 'server/workers/pass-pool.ts', 'shared/utils/stats']
+const SOURCES = ['scripts/fit.ts', 'scripts/lib/csv-columns.ts', 'server/workers', 'shared/utils/stats']
 
 function newest(entry) {
   const full = path.join(ROOT, entry)
