@@ -54,18 +54,50 @@ export function dropCollinearColumns(design: Design): Design {
   const S = new Float64Array(k * k)
   const T = new Float64Array(k)
   const U = new Float64Array(k)
-  const d = new Float64Array(k)
-  for (let r = 0; r < n; r++) {
+  // Four rows per step (as the likelihood pass does): each cell of S is loaded and stored once per four rows. A
+  // column whose four shifted values are all 0 (a dummy's usual case) adds nothing to its row of S.
+  const d1 = new Float64Array(k)
+  const d2 = new Float64Array(k)
+  const d3 = new Float64Array(k)
+  const d4 = new Float64Array(k)
+  let r = 0
+  for (; r + 3 < n; r += 4) {
+    const o1 = r * k
+    const o2 = o1 + k
+    const o3 = o2 + k
+    const o4 = o3 + k
+    for (let j = 1; j < k; j++) {
+      const x1 = X[o1 + j]!
+      const x2 = X[o2 + j]!
+      const x3 = X[o3 + j]!
+      const x4 = X[o4 + j]!
+      U[j]! += x1 * x1 + x2 * x2 + x3 * x3 + x4 * x4
+      const f = first[j]!
+      const a1 = x1 - f
+      const a2 = x2 - f
+      const a3 = x3 - f
+      const a4 = x4 - f
+      d1[j] = a1
+      d2[j] = a2
+      d3[j] = a3
+      d4[j] = a4
+      T[j]! += a1 + a2 + a3 + a4
+      if (a1 === 0 && a2 === 0 && a3 === 0 && a4 === 0) continue
+      const base = j * k
+      for (let m = 1; m <= j; m++) S[base + m]! += a1 * d1[m]! + a2 * d2[m]! + a3 * d3[m]! + a4 * d4[m]!
+    }
+  }
+  for (; r < n; r++) {
     const off = r * k
     for (let j = 1; j < k; j++) {
       const x = X[off + j]!
       U[j]! += x * x
       const dj = x - first[j]!
-      d[j] = dj
+      d1[j] = dj
       T[j]! += dj
       if (dj === 0) continue
       const base = j * k
-      for (let m = 1; m <= j; m++) S[base + m]! += dj * d[m]!
+      for (let m = 1; m <= j; m++) S[base + m]! += dj * d1[m]!
     }
   }
   // Centred cross-products C and means.

@@ -404,20 +404,21 @@ export function buildDesign(data: DataInput, spec: ModelSpec, options: DesignOpt
     n = N
   }
   else {
+    // Column by column (each loop calls one test, which V8 then inlines), the variables in reverse so that a row is
+    // counted under the first of its variables that is missing. Row by row over every test took 10–20 ms at 10^5.
+    const missingAt = new Int32Array(N).fill(-1)
+    for (let v = tests.length - 1; v >= 0; v--) {
+      const test = tests[v]
+      if (!test) continue
+      for (let i = 0; i < N; i++) if (test(i)) missingAt[i] = v
+    }
     const keep = new Int32Array(N)
     for (let i = 0; i < N; i++) {
-      let missingAt = -1
-      for (let v = 0; v < tests.length; v++) {
-        const test = tests[v]
-        if (test && test(i)) {
-          missingAt = v
-          break
-        }
-      }
-      if (missingAt >= 0) dropCounts[missingAt]!++
+      const at = missingAt[i]!
+      if (at >= 0) dropCounts[at]!++
       else keep[n++] = i
     }
-    rowIndex = keep.slice(0, n)
+    rowIndex = n === N ? keep : keep.slice(0, n)
   }
   const rows: DroppedRows = {
     totalRows: N,
