@@ -1,5 +1,6 @@
 /**
- * The fused data pass: log-likelihood, score and observed Hessian in ONE sweep over the rows.
+ * The fused data pass: log-likelihood, score and observed Hessian in ONE sweep over the rows (a block of rows at a
+ * time: the link's terms, then the sums, while the block is still in cache).
  *
  * ℓ(b) = Σ_i w_i [ y_i log F(x_i'b) + (1 − y_i) log(1 − F(x_i'b)) ]
  * g(b) = Σ_i w_i ℓ'_i x_i,              ℓ'_i = dℓ_i/dη at η = x_i'b
@@ -51,60 +52,52 @@ export function logLikelihood(design: Design, link: Link, b: ArrayLike<number>):
   return ll
 }
 
+/** Rows whose link terms `evaluateRange` forms before summing them (a multiple of 4, the passes' stride). */
+const LINK_BLOCK_ROWS = 4096
+
 /**
  * The fused pass over rows [start, end): adds to g and the lower triangle of H, returns
  * [ℓ, rows predicted perfectly] of the range. Ranges can run on separate threads and be summed.
+ * A block of rows at a time: the link's terms (`linkTermsRange`), then the sums (`accumulateSums`), which is also how
+ * the pass pool's WebAssembly kernel runs it, in the same order of additions.
  */
 export function evaluateRange(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, g: Float64Array, H: Float64Array): [number, number] {
-  const { k, X, y, w } = design
-  const n = end
-  const t = new Float64Array(3)
   const bb = Float64Array.from(b as ArrayLike<number>)
-  let ll = 0
-  let perfect = 0
+  const rows = Math.min(LINK_BLOCK_ROWS, Math.max(0, end - start))
+  const s = new Float64Array(rows)
+  const h = new Float64Array(rows)
+  const acc = new Float64Array(2)
+  for (let a = start; a < end; a += LINK_BLOCK_ROWS) {
+    const e = Math.min(end, a + LINK_BLOCK_ROWS)
+    linkTermsRange(design, link, bb, a, e, s, h, acc)
+    accumulateSums(design, a, e, s, h, g, H)
+  }
+  return [acc[0]!, acc[1]!]
+}
+
+/**
+ * The sums of the fused pass over rows [start, end), from the rows' weighted dℓ/dη and d²ℓ/dη² in s and h (indexed
+ * from `start`): g += Σ s_i x_i and the lower triangle of H += Σ h_i x_i x_i'. Four rows per step: each Hessian cell is
+ * loaded and stored once per four rows (for k ≈ 10, 55–66 multiply-adds per row; a general matrix library would need
+ * an n×k weighted copy of X per iteration). server/workers/pass-kernel.wat does the same in WebAssembly.
+ */
+export function accumulateSums(design: Design, start: number, end: number, s: Float64Array, h: Float64Array, g: Float64Array, H: Float64Array): void {
+  const { k, X } = design
   let i = start
-  // Four rows per step: each Hessian cell is loaded and stored once per four rows.
-  for (; i + 3 < n; i += 4) {
+  for (; i + 3 < end; i += 4) {
     const o1 = i * k
     const o2 = o1 + k
     const o3 = o2 + k
     const o4 = o3 + k
-    let e1 = 0
-    let e2 = 0
-    let e3 = 0
-    let e4 = 0
-    for (let j = 0; j < k; j++) {
-      const bj = bb[j]!
-      e1 += X[o1 + j]! * bj
-      e2 += X[o2 + j]! * bj
-      e3 += X[o3 + j]! * bj
-      e4 += X[o4 + j]! * bj
-    }
-    const w1 = w ? w[i]! : 1
-    const w2 = w ? w[i + 1]! : 1
-    const w3 = w ? w[i + 2]! : 1
-    const w4 = w ? w[i + 3]! : 1
-    link.obsTerms(e1, y[i]!, t)
-    const l1 = t[0]!
-    const s1 = w1 * t[1]!
-    const h1 = w1 * t[2]!
-    link.obsTerms(e2, y[i + 1]!, t)
-    const l2 = t[0]!
-    const s2 = w2 * t[1]!
-    const h2 = w2 * t[2]!
-    link.obsTerms(e3, y[i + 2]!, t)
-    const l3 = t[0]!
-    const s3 = w3 * t[1]!
-    const h3 = w3 * t[2]!
-    link.obsTerms(e4, y[i + 3]!, t)
-    const l4 = t[0]!
-    const s4 = w4 * t[1]!
-    const h4 = w4 * t[2]!
-    ll += w1 * l1 + w2 * l2 + w3 * l3 + w4 * l4
-    if (l1 > -1e-10) perfect++
-    if (l2 > -1e-10) perfect++
-    if (l3 > -1e-10) perfect++
-    if (l4 > -1e-10) perfect++
+    const r = i - start
+    const s1 = s[r]!
+    const s2 = s[r + 1]!
+    const s3 = s[r + 2]!
+    const s4 = s[r + 3]!
+    const h1 = h[r]!
+    const h2 = h[r + 1]!
+    const h3 = h[r + 2]!
+    const h4 = h[r + 3]!
     for (let j = 0; j < k; j++) {
       const x1 = X[o1 + j]!
       const x2 = X[o2 + j]!
@@ -121,16 +114,10 @@ export function evaluateRange(design: Design, link: Link, b: ArrayLike<number>, 
       }
     }
   }
-  for (; i < n; i++) {
+  for (; i < end; i++) {
     const o1 = i * k
-    let e1 = 0
-    for (let j = 0; j < k; j++) e1 += X[o1 + j]! * bb[j]!
-    link.obsTerms(e1, y[i]!, t)
-    const w1 = w ? w[i]! : 1
-    ll += w1 * t[0]!
-    if (t[0]! > -1e-10) perfect++
-    const s1 = w1 * t[1]!
-    const h1 = w1 * t[2]!
+    const s1 = s[i - start]!
+    const h1 = h[i - start]!
     for (let j = 0; j < k; j++) {
       const x1 = X[o1 + j]!
       g[j]! += s1 * x1
@@ -139,15 +126,14 @@ export function evaluateRange(design: Design, link: Link, b: ArrayLike<number>, 
       for (let m = 0; m <= j; m++) H[base + m]! += a1 * X[o1 + m]!
     }
   }
-  return [ll, perfect]
 }
 
 /**
  * The link's share of the fused pass over rows [start, end): writes each row's weighted dℓ/dη and d²ℓ/dη² into
  * s[i − start] and h[i − start], and adds ℓ and the perfectly predicted rows to acc[0] and acc[1]. The score and
  * Hessian sums are then formed from s and h by the pass pool's WebAssembly kernel (server/workers/pass-kernel.wat).
- * Four rows per step and the same expressions as `evaluateRange`, so that run over the same rows in turn the two
- * give the same doubles, bit for bit.
+ * Four rows per step (ℓ added in the same groups of four whichever block a row is in, when blocks start at multiples
+ * of 4 from the range's start).
  */
 export function linkTermsRange(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, s: Float64Array, h: Float64Array, acc: Float64Array): void {
   const { k, X, y, w } = design
