@@ -4,10 +4,10 @@
  *
  * The kernel reads the design matrix where it lies, so X must be in a WebAssembly memory: `kernelArrayBuffer` gives
  * the design builder such memories (shared, so the pool's threads read them too), and the pool copies any other
- * design into one. Each memory keeps headroom past its data for the threads' scratch: the rows' link terms (s, h)
- * of one block at a time and the running g and H, which `prepareKernel` lays out when a design is attached.
- * A design the kernel cannot take (a memory that cannot grow, a matrix past WebAssembly's 4 GB) runs the
- * JavaScript pass, `evaluateRange`, which gives the same doubles.
+ * design into one. Each memory keeps headroom past its data for the threads' scratch (one block of rows' y, w and
+ * link terms, b, the running g and H, the separation figures), which `prepareKernel` lays out when a design is
+ * attached. A design the kernel cannot take (a memory that cannot grow, a matrix past WebAssembly's 4 GB) runs the
+ * JavaScript passes: the same sums, and for probit terms within 1e-15 of the kernel's.
  */
 import { setFlagsFromString } from 'node:v8'
 import { linkTermsRange, type Design, type Link } from '../../shared/utils/stats/index'
@@ -20,7 +20,7 @@ const BLOCK_ARRAYS = 5
 /** The separation check's running figures per column (see `separationStats` in pass-kernel.wat). */
 const SEPARATION_PLANES = 7
 const PAGE = 65536
-/** Pages past the data for the scratch (4 MB): 4 threads at k = 300 need 3.1 MB. */
+/** Pages past the data for the scratch (4 MB): 4 threads at k = 300 need 3.6 MB. */
 const HEADROOM_PAGES = 64
 const MAX_PAGES = 65536
 
@@ -50,7 +50,10 @@ export function kernelArrayBuffer(bytes: number): SharedArrayBuffer {
   return buffer
 }
 
-/** X in a kernel memory: the design's own when it was built in one (at offset 0), else a copy. Null past 4 GB. */
+/**
+ * X in a kernel memory: the design's own when it was built in one (at offset 0), else a copy (past 4 GB a plain shared
+ * copy, which `prepareKernel` then declines).
+ */
 export function kernelMatrix(X: Float64Array): Float64Array {
   if (X.byteOffset === 0 && memories.has(X.buffer)) return X
   const copy = new Float64Array(kernelArrayBuffer(X.byteLength), 0, X.length)

@@ -1,7 +1,8 @@
 /**
  * The engine's row passes on several threads over shared memory (an implementation of `ParallelPasses`).
  *
- * The design's arrays are copied once into SharedArrayBuffers (none when the design was built there); helper threads
+ * The design's arrays are copied once into SharedArrayBuffers (none when the design was built there; X goes into a
+ * WebAssembly memory, where the pass kernel of pass-kernel.ts forms the likelihood pass's sums); helper threads
  * (this same module's file, started with `workerData.role = 'furrowcast-pass'`) read them in place. A pass is one
  * round of Atomics: the caller writes the parameters and the task, bumps a generation counter and wakes the helpers;
  * every thread, the caller's included, takes chunks of rows in turn and writes each chunk's partial sums into that
