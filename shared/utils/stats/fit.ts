@@ -186,9 +186,10 @@ function newtonLoop(design: Design, link: Link, b0: Float64Array, maxIter: numbe
 }
 
 /**
- * Every s-th row, s = ⌊n / (n/20)⌋, as a separate small design (≈ 5% of the data, at least
- * 10 000 rows). Newton on it gives starting values within sampling error of the full-data
- * estimate, so the full data needs about two passes fewer. Deterministic (no randomness).
+ * The starting values' subsample: every s-th row, s = ⌊n / (n/20)⌋ (≈ 5% of the data, at least
+ * 10 000 rows), as its stride and row count; null when too small or of one outcome only. Newton on it
+ * gives starting values within sampling error of the full-data estimate, so the full data needs about
+ * two passes fewer. Deterministic (no randomness).
  */
 function subsample(design: Design): { stride: number, rows: number } | null {
   const { n, y } = design

@@ -59,7 +59,7 @@ export function separationStatsRange(design: Design, start: number, end: number,
   out[7 * k] = n1
 }
 
-/** Merges ranges' statistics, in order, into the first. */
+/** Ranges' statistics merged in order (a new array; the parts are left as they are). */
 export function mergeSeparationStats(parts: Float64Array[], k: number): Float64Array {
   const out = Float64Array.from(parts[0]!.subarray(0, separationStatsLength(k)))
   for (const p of parts.slice(1)) {
