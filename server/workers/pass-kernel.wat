@@ -7,7 +7,7 @@
 ;;
 ;; for `rows` rows of a row-major matrix X (k doubles per row), `step` bytes apart (k·8 for consecutive rows; the
 ;; starting values' subsample takes every s-th row, fit.ts), where s_i and h_i are the rows' weighted first and
-;; second derivatives of the log-likelihood, computed beforehand in JavaScript (likelihood.ts, `linkTermsRange`).
+;; second derivatives of the log-likelihood, computed beforehand (likelihood.ts, `linkTermsRange`, or `probitTerms` below).
 ;; Why WebAssembly: this is 66 multiply-adds per row at k = 11 and it was half of every pass; V8 runs the same loop in
 ;; JavaScript one double at a time, while here each instruction does two cells of H. Measured at 10^6 × 11 on this
 ;; project's 2-core machine: 12.5 ms against 39–48 ms for the JavaScript loop.
