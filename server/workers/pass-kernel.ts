@@ -10,7 +10,7 @@
  * JavaScript passes: the same sums, and for probit terms within 1e-15 of the kernel's.
  */
 import { setFlagsFromString } from 'node:v8'
-import { linkTermsRange, type Design, type Link } from '../../shared/utils/stats/index'
+import { linkTermsRange, type Design, type Link, type LinkName } from '../../shared/utils/stats/index'
 import { PASS_KERNEL_WASM } from './pass-kernel-wasm'
 
 /** Rows whose link terms are formed before the kernel sums them: a multiple of 4 (the passes' stride), 32 KB per array. */
@@ -30,6 +30,8 @@ let compiled: WebAssembly.Module | null = null
 function kernelModule(): WebAssembly.Module {
   if (!compiled) {
     // Compiled by the optimising tier at once: with the baseline tier the first 10^6-row Hessian sum took 51 ms, not 13.
+    // The flag is the whole process's: WebAssembly compiled later anywhere in it also skips the baseline tier, which
+    // only makes that compile slower.
     setFlagsFromString('--no-liftoff')
     compiled = new WebAssembly.Module(Buffer.from(PASS_KERNEL_WASM, 'base64'))
   }
@@ -200,14 +202,14 @@ function probitTermsByKernel(design: Design, link: Link, a: number, rows: number
   run.acc[1] = perfect
 }
 
-/** Whether `evaluateRangeWithKernel` takes rows `step` apart for this link (only the probit terms do, by the kernel). */
-export function kernelTakesStep(link: Link, step: number): boolean {
-  return step === 1 || link.name === 'probit'
+/** Whether `evaluateRangeWithKernel` can take rows a step apart for this link: only the kernel's probit terms can. */
+export function kernelTakesRowsApart(linkName: LinkName): boolean {
+  return linkName === 'probit'
 }
 
 /**
  * The fused pass over rows [start, end) — with `step` > 1 over the rows of that range that are multiples of
- * `step` (the starting values' subsample, fit.ts; probit only, see `kernelTakesStep`) — with the score and Hessian sums
+ * `step` (the starting values' subsample, fit.ts; probit only, see `kernelTakesRowsApart`) — with the score and Hessian sums
  * formed by the kernel, a block of rows at a time. The link terms: for probit by the kernel too (`probitTermsByKernel`)
  * unless `jsLink`; else `linkTermsRange`, and then the results are `evaluateRange`'s, the same doubles. Adds to g and the
  * lower triangle of H (k×k); returns [ℓ, rows predicted perfectly].
@@ -215,7 +217,7 @@ export function kernelTakesStep(link: Link, step: number): boolean {
 export function evaluateRangeWithKernel(design: Design, link: Link, b: ArrayLike<number>, start: number, end: number, run: KernelRunner, g: Float64Array, H: Float64Array, jsLink = false, step = 1): [number, number] {
   const { k, X } = design
   const kp = run.layout.kp
-  const byKernel = link.name === 'probit' && !jsLink
+  const byKernel = kernelTakesRowsApart(link.name) && !jsLink
   if (step !== 1 && !byKernel) throw new Error('rows a step apart are for the probit kernel only')
   run.g.fill(0)
   run.H.fill(0)
@@ -247,7 +249,9 @@ export function separationStatsWithKernel(design: Design, start: number, end: nu
   const { k, X, y } = design
   const kp = run.layout.kp
   const st = run.stats
-  for (let plane = 0; plane < SEPARATION_PLANES; plane++) st.subarray(plane * kp, (plane + 1) * kp).fill(plane === 0 || plane === 2 ? Infinity : plane === 1 || plane === 3 ? -Infinity : 0)
+  // The planes' starting figures: minima +∞, maxima −∞, sums and the flag 0 (as `separationStatsRange` starts them).
+  const startingFigure = (plane: number): number => (plane === 0 || plane === 2 ? Infinity : plane === 1 || plane === 3 ? -Infinity : 0)
+  for (let plane = 0; plane < SEPARATION_PLANES; plane++) st.subarray(plane * kp, (plane + 1) * kp).fill(startingFigure(plane))
   let n1 = 0
   for (let a = start; a < end; a += KERNEL_BLOCK_ROWS) {
     const e = Math.min(end, a + KERNEL_BLOCK_ROWS)
@@ -256,7 +260,7 @@ export function separationStatsWithKernel(design: Design, start: number, end: nu
     run.separationStats(X.byteOffset + a * k * 8, k, kp, run.py, e - a, run.pst)
   }
   for (let plane = 0; plane < SEPARATION_PLANES; plane++) {
-    out[plane * k] = plane === 0 || plane === 2 ? Infinity : plane === 1 || plane === 3 ? -Infinity : 0
+    out[plane * k] = startingFigure(plane)
     for (let j = 1; j < k; j++) {
       const v = st[plane * kp + j]!
       // The flag plane holds a mask: any bit set (a NaN pattern) is 1.

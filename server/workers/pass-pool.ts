@@ -19,7 +19,7 @@ import {
   type Design, type DesignPlan, type LinkName, type ParallelPasses, type PassResult
 } from '../../shared/utils/stats/index'
 import {
-  evaluateRangeWithKernel, kernelMatrix, kernelRunner, kernelTakesStep, prepareKernel, separationStatsWithKernel, type KernelLayout, type KernelRunner
+  evaluateRangeWithKernel, kernelMatrix, kernelRunner, kernelTakesRowsApart, prepareKernel, separationStatsWithKernel, type KernelLayout, type KernelRunner
 } from './pass-kernel'
 
 export const PARALLEL_MIN_ROWS = 50_000
@@ -288,7 +288,7 @@ export async function startPassHelpers(script: URL | string, threads = Math.min(
         evaluate(b, shift): PassResult {
           return sumEvaluate(run(shift ? TASK_EVALUATE_SHIFTED : TASK_EVALUATE, b, shift))
         },
-        evaluateEvery: shared.kernel && kernelTakesStep(getLink(linkName), 2)
+        evaluateEvery: shared.kernel && kernelTakesRowsApart(linkName)
           ? (step, end, b) => sumEvaluate(run(TASK_EVALUATE_EVERY, b, null, [step, end]))
           : null,
         clusterScores(b, shift) {
