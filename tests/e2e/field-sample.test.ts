@@ -54,6 +54,10 @@ describe('the sample to visit on a tablet with no network, then review', () => {
     const list = page.locator(`[data-testid="sample-village"][data-village="${village.name}"]`)
     await poll(() => list.count()).toBe(1)
     expect(await stateOf(page, toVisit)).toBe('To visit')
+    // The replacements are folded away, and their rows are built only when the enumerator opens the group.
+    expect(await farm(page, spare).count()).toBe(0)
+    await list.getByTestId('sample-group-spare').locator('summary').click()
+    await poll(() => farm(page, spare).isVisible()).toBe(true)
     expect(await stateOf(page, spare)).toBe('Replacement, not needed yet')
     expect(await farm(page, toVisit).innerText()).toMatch(new RegExp(`^${toVisit} · \\w+`))
 
@@ -71,6 +75,7 @@ describe('the sample to visit on a tablet with no network, then review', () => {
     await poll(async () => (await page.getByTestId('visit-saved').locator('h2').textContent())?.trim()).toBe('Saved')
     await page.getByRole('link', { name: 'Back to field work' }).click()
     await page.waitForURL(url => url.pathname === '/field')
+    await list.getByTestId('sample-group-visited').locator('summary').click()
     await poll(() => stateOf(page, toVisit)).toBe('Visited')
 
     // A refusal: the reason is asked (refused without one), then the next replacement by rank is brought in.
