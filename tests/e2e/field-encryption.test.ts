@@ -84,6 +84,29 @@ async function typePin(page: Page, pin: string) {
   await page.getByRole('button', { name: 'Unlock' }).click()
 }
 
+describe('the field app opened as a document', () => {
+  it('asks the server for the session once: the document\'s preload answers the app\'s own request', async () => {
+    const context = await newTabletContext(opened.browser)
+    try {
+      // Signed in through the route, so /field is the first document of this browser (as a tablet reopening the app).
+      expect((await context.request.post('/api/auth/signin', { data: { email, password: DEMO.password } })).ok()).toBe(true)
+      const page = await context.newPage()
+      const asked: Array<Promise<string | undefined>> = []
+      page.on('request', (r) => {
+        if (new URL(r.url()).pathname === '/api/_auth/session') asked.push(r.allHeaders().then(h => h.accept))
+      })
+      await page.goto('/field')
+      await page.getByTestId('field-pin-setup').waitFor()
+      expect(await page.getByRole('heading', { level: 1 }).textContent()).toMatch(/PIN/)
+      // One request, and it is the preload's (a browser's preload asks for any type; the app's own asks for JSON).
+      expect(await Promise.all(asked)).toEqual(['*/*'])
+    }
+    finally {
+      await context.close()
+    }
+  })
+})
+
 describe('the tablet\'s encrypted store', () => {
   let context: BrowserContext
   let page: Page

@@ -79,6 +79,9 @@ describe('the field pages\' documents', () => {
     expect(form.length).toBeGreaterThan(0)
     // The visit form's own files are not the list page's (they are fetched when the list opens, not with the entry).
     expect(form.some(href => !list.includes(href))).toBe(true)
+    // The session, which the app asks for first once its entry runs, is fetched beside the entry too.
+    const SESSION = '<link rel="preload" as="fetch" crossorigin href="/api/_auth/session">'
+    for (const path of ['/field', '/field/visit']) expect(String((await enumerator.get<string>(path)).body)).toContain(SESSION)
     for (const href of new Set([...list, ...form])) {
       expect(href).toMatch(/^\/_nuxt\/[\w.-]+\.js$/)
       const file = await fetch(`${baseUrl()}${href}`)
