@@ -169,6 +169,8 @@ describe('the whole tablet path of a field day, then review', () => {
     await page.getByRole('link', { name: 'Back to field work' }).click()
     await page.waitForURL(url => url.pathname === '/field', { timeout: LONG })
     await openFieldStore(page)
+    // The visited farms are folded away: opened as the enumerator would, to see the farm among them.
+    await page.locator(`[data-testid="sample-village"][data-village="${village.name}"]`).getByTestId('sample-group-visited').locator('summary').click({ timeout: LONG })
     await poll(() => stateOf(page, toVisit), LONG).toMatch(/^Visited( · in place of [A-Z0-9-]+)?$/)
 
     // Another listed farm refused, with its reason.
