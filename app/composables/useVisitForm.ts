@@ -1,3 +1,4 @@
+import type { FieldSetup } from '#shared/types/field'
 import type { QuestionnaireVersionDto } from '#shared/utils/schemas/questionnaire'
 import { type LocalVisit, fieldDb } from '~/utils/field-db'
 import { resizePhoto, sha256Hex } from '~/utils/photo-resize'
@@ -8,8 +9,10 @@ const EDITABLE = ['draft', 'queued', 'rejected', 'sent_back', 'conflict']
 /**
  * One visit being written on the tablet. Every change is saved to the device as it is typed (a draft);
  * "Save visit" checks it with the questionnaire version's own schema and queues it for sync.
+ * `setupOf` gives the tablet's setup as the page already read it (reading and unsealing it again cost the form's
+ * first screen a store read and a decryption).
  */
-export function useVisitForm() {
+export function useVisitForm(setupOf: () => FieldSetup | null) {
   const route = useRoute()
   const router = useRouter()
   const { user } = useUserSession()
@@ -34,7 +37,7 @@ export function useVisitForm() {
   async function load() {
     if (!user.value) return
     db = fieldDb(user.value.id)
-    const setup = await db.setup()
+    let setup = setupOf()
     const id = typeof route.query.id === 'string' ? route.query.id : null
     if (!id) {
       const round = setup?.rounds.find(r => r.id === Number(route.query.round) && r.status !== 'closed')
@@ -57,7 +60,10 @@ export function useVisitForm() {
       return
     }
     const found = await db.visits.get(id)
-    version.value = setup?.questionnaires.find(q => q.id === found?.questionnaireVersionId) ?? null
+    // A sync since the page opened may have brought the version (a server copy taken after a conflict).
+    const versionIn = (s: FieldSetup | null) => s?.questionnaires.find(q => q.id === found?.questionnaireVersionId) ?? null
+    if (found && !versionIn(setup)) setup = await db.setup()
+    version.value = versionIn(setup)
     if (!found || !version.value) {
       notFound.value = true
       return
