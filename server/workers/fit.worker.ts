@@ -7,11 +7,16 @@ import { runInNewContext } from 'node:vm'
 import { isMainThread, parentPort, workerData } from 'node:worker_threads'
 import { EngineInputError, runModel } from '../../shared/utils/stats'
 import { LARGE_FIT_ROWS, rowsOf, type FitAnswer, type FitMessage, type FitRequest, type FitReply } from './fit-protocol'
-import { kernelArrayBuffer } from './pass-kernel'
+import { KernelMemoryCache } from './pass-kernel'
 import { PARALLEL_MIN_ROWS, startPassHelpers, type PassHelpers } from './pass-pool'
 import { warmUpData, warmUpSpec } from './warm-up'
 
 let helpers: Promise<PassHelpers> | null = null
+/**
+ * The design's memories, kept from one fit for the next up to 32 MB (a 10^5-row design of 36 terms): a later fit of
+ * that size finds them already mapped. Larger fits end the worker (fit-runner.ts), which returns everything.
+ */
+const memories = new KernelMemoryCache(32 * 2 ** 20)
 
 /**
  * A full garbage collection, run once a large fit's input columns have been let go. Why: V8 frees an ArrayBuffer only
@@ -30,7 +35,7 @@ async function fit(request: FitRequest): Promise<FitReply> {
     return {
       ok: true,
       results: runModel(request.data, request.spec, {
-        arrayBuffer: passes ? kernelArrayBuffer : undefined,
+        arrayBuffer: passes ? memories.take : undefined,
         parallel: (design, link) => (passes && design.n >= PARALLEL_MIN_ROWS ? passes.attach(design, link) : null),
         // The columns came here to be fitted (moved from the loader): once the design holds them, nothing else does.
         inputDone: () => {
@@ -65,5 +70,7 @@ if (!isMainThread && workerData?.role !== 'furrowcast-pass') {
     // The warm-up's results are not needed: only that it ran (and whether it failed).
     const sent: FitAnswer = { id: message.id, reply: message.kind === 'warm-up' && reply.ok ? { ok: true, results: null as never } : reply }
     parentPort?.postMessage(sent)
+    // The answer holds no view of the design's memories (the results are plain figures, copied when posted).
+    memories.recycle()
   })
 }

@@ -25,6 +25,8 @@ const HEADROOM_PAGES = 64
 const MAX_PAGES = 65536
 
 const memories = new WeakMap<ArrayBufferLike, WebAssembly.Memory>()
+// 16 bytes more: for odd k the kernel reads one double past the last row (see pass-kernel.wat).
+const pagesFor = (bytes: number) => Math.ceil((bytes + 16) / PAGE)
 let compiled: WebAssembly.Module | null = null
 
 function kernelModule(): WebAssembly.Module {
@@ -43,13 +45,62 @@ function kernelModule(): WebAssembly.Module {
  * lengths) inside a WebAssembly memory the kernel can read; a plain SharedArrayBuffer when that would pass 4 GB.
  */
 export function kernelArrayBuffer(bytes: number): SharedArrayBuffer {
-  // 16 bytes more: for odd k the kernel reads one double past the last row (see pass-kernel.wat).
-  const pages = Math.ceil((bytes + 16) / PAGE)
+  const pages = pagesFor(bytes)
   if (pages + HEADROOM_PAGES > MAX_PAGES) return new SharedArrayBuffer(bytes)
   const memory = new WebAssembly.Memory({ initial: pages, maximum: pages + HEADROOM_PAGES, shared: true })
   const buffer = memory.buffer as unknown as SharedArrayBuffer
   memories.set(buffer, memory)
   return buffer
+}
+
+/**
+ * Kernel memories kept from one fit for the next, in one thread (the fit worker keeps one for its life). Why: this
+ * machine pays about 11 µs per 4-KB page the first time fresh memory is touched (25 ms for a 10^5 × 11 design, half
+ * of building it), and a WebAssembly memory is always mapped fresh, past the reach of the allocator's own reuse.
+ * A memory given again is not cleared: the design builder writes every element it reads, and the kernel's scratch
+ * is set at the start of every pass.
+ */
+export class KernelMemoryCache {
+  private lent: WebAssembly.Memory[] = []
+  private spare: WebAssembly.Memory[] = []
+
+  /** At most `keepBytes` in all are kept between fits (the largest memories first). */
+  constructor(private readonly keepBytes: number) {}
+
+  /** As `kernelArrayBuffer`, from the smallest kept memory large enough if there is one. */
+  readonly take = (bytes: number): SharedArrayBuffer => {
+    const at = this.spare.findIndex(m => m.buffer.byteLength >= pagesFor(bytes) * PAGE)
+    if (at < 0) {
+      const buffer = kernelArrayBuffer(bytes)
+      const memory = memories.get(buffer)
+      if (memory) this.lent.push(memory)
+      return buffer
+    }
+    const memory = this.spare.splice(at, 1)[0]!
+    this.lent.push(memory)
+    const buffer = memory.buffer as unknown as SharedArrayBuffer
+    memories.set(buffer, memory)
+    return buffer
+  }
+
+  /** Takes back every memory given since the last call: the caller holds no view of them any more. */
+  recycle(): void {
+    const all = [...this.spare, ...this.lent].sort((a, b) => b.buffer.byteLength - a.buffer.byteLength)
+    this.lent = []
+    this.spare = []
+    let kept = 0
+    for (const memory of all) {
+      if (kept + memory.buffer.byteLength > this.keepBytes) continue
+      this.spare.push(memory)
+      kept += memory.buffer.byteLength
+    }
+    this.spare.reverse()
+  }
+
+  /** Bytes kept for the next fit. */
+  get keptBytes(): number {
+    return this.spare.reduce((sum, m) => sum + m.buffer.byteLength, 0)
+  }
 }
 
 /**

@@ -76,6 +76,25 @@ describe('fits in a worker thread', () => {
       expect(Math.abs(c.se! - local.coefficients[j]!.se!)).toBeLessThan(1e-10)
     })
     expect(reply.results.margins!.effects.map(e => e.estimate)).toEqual(local.margins!.effects.map(e => expect.closeTo(e.estimate, 10)))
+
+    // The kept worker's next fits build their designs in the memories this one left (not cleared): the same numbers
+    // as in fresh memory, to the last bit, fit after fit.
+    const threadOf = keptFitWorkerIds()
+    let previous: unknown = null
+    const smaller = { y: y.slice(0, 100_000), x1: x1.slice(0, 100_000), x2: x2.slice(0, 100_000), village: village.slice(0, 100_000) }
+    const fresh = runModel({ ...smaller }, big)
+    for (let again = 0; again < 2; again++) {
+      const next = await runFitInWorker({ ...smaller, y: smaller.y.slice(), x1: smaller.x1.slice(), x2: smaller.x2.slice() }, big, options)
+      expect(next.ok).toBe(true)
+      if (!next.ok) return
+      expect(keptFitWorkerIds()).toEqual(threadOf)
+      next.results.coefficients.forEach((c, j) => {
+        expect(Math.abs(c.estimate - fresh.coefficients[j]!.estimate)).toBeLessThan(1e-10)
+        expect(Math.abs(c.se! - fresh.coefficients[j]!.se!)).toBeLessThan(1e-10)
+      })
+      if (again === 1) expect(next.results.coefficients).toEqual(previous)
+      previous = next.results.coefficients
+    }
   }, 120_000)
 
   it('keeps the calling thread responsive during a large fit', async () => {

@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
 import { assemblePassKernel, kernelModuleSource } from '../../../scripts/lib/pass-kernel-bytes.mjs'
 import {
-  evaluateRangeWithKernel, KERNEL_BLOCK_ROWS, kernelArrayBuffer, kernelMatrix, kernelRunner, prepareKernel, separationStatsWithKernel
+  evaluateRangeWithKernel, KERNEL_BLOCK_ROWS, KernelMemoryCache, kernelArrayBuffer, kernelMatrix, kernelRunner, prepareKernel, separationStatsWithKernel
 } from '../../../server/workers/pass-kernel'
 import { checkSeparation, designFromMatrix, evaluateRange, getLink, mergeSeparationStats, separationStatsLength, separationStatsRange, type LinkName } from '../../../shared/utils/stats'
 import { normal, prng } from '../../../shared/utils/random/prng'
@@ -163,6 +163,62 @@ describe('the pass kernel (WebAssembly)', () => {
     // Not in a kernel memory: the pool runs the JavaScript pass.
     expect(prepareKernel(plain, 4, 2)).toBeNull()
   })
+
+  it('keeps memories from one fit for the next, the smallest large enough first, up to its limit', () => {
+    const cache = new KernelMemoryCache(3 * 2 ** 20)
+    const big = cache.take(2 * 2 ** 20)
+    const small = cache.take(200_000)
+    const other = cache.take(2 * 2 ** 20)
+    expect(new Set([big, small, other]).size).toBe(3)
+    cache.recycle()
+    // Two of 2 MB do not fit in 3 MB: one of them and the small one are kept.
+    expect(cache.keptBytes).toBeLessThanOrEqual(3 * 2 ** 20)
+    expect(cache.keptBytes).toBeGreaterThan(2 * 2 ** 20)
+    const again = cache.take(100_000)
+    expect(again).toBe(small)
+    expect([big, other]).toContain(cache.take(2 * 2 ** 20 - 100))
+    // Nothing kept is large enough: a fresh memory.
+    const fresh = cache.take(4 * 2 ** 20)
+    expect([big, small, other]).not.toContain(fresh)
+    expect(prepareKernel(new Float64Array(fresh, 0, 1000), 4, 2)).not.toBeNull()
+  })
+
+  for (const linkName of ['probit', 'logit'] as const) {
+    it(`gives the same sums from a kept memory full of another fit's leftovers (NaN everywhere): ${linkName}, odd k`, () => {
+      const cache = new KernelMemoryCache(2 ** 26)
+      const n = 2 * KERNEL_BLOCK_ROWS + 5
+      const k = 5
+      const build = () => {
+        const X = new Float64Array(cache.take(n * k * 8), 0, n * k)
+        const u = prng(99)
+        const y = new Float64Array(n)
+        for (let i = 0; i < n; i++) {
+          X[i * k] = 1
+          for (let j = 1; j < k; j++) X[i * k + j] = normal(u)
+          y[i] = X[i * k + 1]! + normal(u) > 0 ? 1 : 0
+        }
+        return designFromMatrix(X, y, ['a', 'b', 'c', 'd'])
+      }
+      const link = getLink(linkName)
+      const b = Float64Array.from([0.1, -0.3, 0.2, 0.05, -0.1])
+      const sums = () => {
+        const d = build()
+        const layout = prepareKernel(d.X, k, 2)!
+        const g = new Float64Array(k)
+        const H = new Float64Array(k * k)
+        const value = evaluateRangeWithKernel(d, link, b, 0, n, kernelRunner(layout, 1), g, H)
+        // Leftovers for the next fit: every byte of the memory, X's padding and the scratch included.
+        new Float64Array(layout.memory.buffer).fill(Number.NaN)
+        return { value, g: Array.from(g), H: Array.from(H), buffer: d.X.buffer }
+      }
+      const first = sums()
+      cache.recycle()
+      const second = sums()
+      expect(second.buffer).toBe(first.buffer)
+      expect({ ...second, buffer: null }).toEqual({ ...first, buffer: null })
+      expect(first.g.every(Number.isFinite)).toBe(true)
+    })
+  }
 
   it('declines a design whose scratch does not fit the memory\'s headroom (the pool then runs the JavaScript pass)', () => {
     // k = 800: H alone is 5.1 MB per thread, past the 4 MB of headroom.
