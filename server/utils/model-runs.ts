@@ -4,6 +4,7 @@ import { ENGINE_VERSION, buildDesign, type ModelSpec, type ScenarioSpec } from '
 import { OUTCOME_KEY } from '#shared/utils/schemas/questionnaire'
 import { ModelRun, Round } from '../db/models'
 import type { SignedInUser } from './access'
+import { RECHECK_MS, announceRunEnd, runEndOrTimeout } from './model-run-end'
 import { severalRoundsSpec } from './panel-data'
 import { roundFamily, type RoundFamily } from './round-family'
 
@@ -29,12 +30,12 @@ function specOrBadRequest(request: ModelRequest, context: RoundContext, family?:
   }
 }
 
-/** What a fit would use, before fitting: the equation, the visits used, and which are left out and why. */
 /** The rounds of a several-rounds request (this organisation's, 404 otherwise); undefined for one round. */
 async function familyOf(request: ModelRequest, organisationId: number): Promise<RoundFamily | undefined> {
   return request.several ? roundFamily(organisationId, [request.roundId, ...request.several.roundIds]) : undefined
 }
 
+/** What a fit would use, before fitting: the equation, the visits used, and which are left out and why. */
 export async function previewModel(user: SignedInUser, request: ModelRequest) {
   const context = await roundContext(request.roundId, user.organisationId)
   const family = await familyOf(request, user.organisationId)
@@ -60,7 +61,7 @@ async function fitAndStore(run: ModelRun, spec: ModelSpec, family?: RoundFamily)
   const started = Date.now()
   try {
     const data = await loadRoundColumns(run.roundId, run.organisationId, spec, family)
-    await run.update({
+    const stored = run.update({
       rowsHash: data.rowsHash,
       usedRowsHash: data.usedRowsHash,
       rowCount: data.rowCount,
@@ -68,7 +69,8 @@ async function fitAndStore(run: ModelRun, spec: ModelSpec, family?: RoundFamily)
       excluded: data.excluded,
       dataVersion: data.dataVersion
     })
-    const reply = await runFitInWorker(data.columns, spec, { transfer: data.transfer })
+    // The row's read figures are stored while the worker fits (they are not needed before the end).
+    const [reply] = await Promise.all([runFitInWorker(data.columns, spec, { transfer: data.transfer }), stored])
     // Following each farm, the engine's "groups" are farms: their predictions are no village figures (and one
     // farm's prediction is not for showing), so the village table, planning and the map have nothing to take.
     if (reply.ok && run.request.several?.model === 'farm-effects') reply.results.villages = null
@@ -77,6 +79,9 @@ async function fitAndStore(run: ModelRun, spec: ModelSpec, family?: RoundFamily)
   }
   catch (error) {
     await run.update({ status: 'failed', error: { code: 'worker_failure', message: error instanceof Error ? error.message : String(error) }, finishedAt: new Date() })
+  }
+  finally {
+    announceRunEnd(run.id)
   }
 }
 
@@ -121,6 +126,20 @@ export async function findModelRun(id: number, organisationId: number): Promise<
     await run.update({ status: 'failed', error: { code: 'interrupted', message: 'The fit was interrupted (the server stopped); run it again.' }, finishedAt: new Date() })
   }
   return run
+}
+
+/**
+ * The run once its fit has ended, or as it stands after `waitMs` or once the asker has gone (`gone`): a GET that
+ * asked to wait (`?wait=`).
+ */
+export async function awaitRunEnd(run: ModelRun, organisationId: number, waitMs: number, gone: () => boolean): Promise<ModelRun> {
+  const deadline = Date.now() + waitMs
+  let current = run
+  while (current.status === 'running' && !gone() && Date.now() < deadline) {
+    await runEndOrTimeout(current.id, Math.min(RECHECK_MS, deadline - Date.now()))
+    current = await findModelRun(current.id, organisationId)
+  }
+  return current
 }
 
 /**

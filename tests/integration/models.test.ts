@@ -80,6 +80,42 @@ describe('fitting a model of the demo round', () => {
     expect(local.coefficients.map(c => c.se)).toEqual(run.results!.coefficients.map(c => c.se))
   })
 
+  it('answers a GET that asks to wait once the fit has ended, in one request, and refuses a wait out of bounds', async () => {
+    const started = await coordinator.post<ModelRunSummary>('/api/models', { roundId, covariates })
+    expect(started.status).toBe(202)
+    const t0 = Date.now()
+    const waited = await coordinator.get<ModelRunDetail>(`/api/models/${started.body.id}?wait=20000`)
+    expect(waited.status).toBe(200)
+    expect(waited.body.status).toBe('done')
+    expect(waited.body.results!.coefficients.map(c => c.estimate)).toEqual(run.results!.coefficients.map(c => c.estimate))
+    expect(Date.now() - t0).toBeLessThan(15_000)
+    // A finished run is answered at once.
+    const t1 = Date.now()
+    expect((await coordinator.get<ModelRunDetail>(`/api/models/${started.body.id}?wait=20000`)).body.status).toBe('done')
+    expect(Date.now() - t1).toBeLessThan(1000)
+    for (const wait of ['20001', '-1', 'soon', '1e9']) expect((await coordinator.get(`/api/models/${started.body.id}?wait=${wait}`)).status).toBe(400)
+  })
+
+  it('sees the end of a fit stored by another app server while it waits (the row read again every second)', async () => {
+    // A run this server is not fitting: the row alone says running, then done, as another server of a cluster writes it.
+    const row = await ModelRun.create({ ...(await ModelRun.findByPk(run.id))!.get({ plain: true }), id: undefined, status: 'running', createdAt: new Date(), finishedAt: null } as never)
+    const t0 = Date.now()
+    const waiting = coordinator.get<ModelRunDetail>(`/api/models/${row.id}?wait=10000`)
+    await new Promise(resolve => setTimeout(resolve, 600))
+    await row.update({ status: 'done', finishedAt: new Date() })
+    const answer = await waiting
+    expect(answer.body.status).toBe('done')
+    const took = Date.now() - t0
+    expect(took).toBeGreaterThanOrEqual(600)
+    expect(took).toBeLessThan(4000)
+    // Still running at the end of the wait: answered as it stands.
+    await row.update({ status: 'running', finishedAt: null })
+    const t1 = Date.now()
+    expect((await coordinator.get<ModelRunDetail>(`/api/models/${row.id}?wait=1500`)).body.status).toBe('running')
+    expect(Date.now() - t1).toBeGreaterThanOrEqual(1400)
+    await row.destroy()
+  })
+
   it('re-running the stored specification on the same rows gives the same numbers', async () => {
     const again = await coordinator.post<ModelRunSummary>(`/api/models/${run.id}/rerun`)
     expect(again.status).toBe(202)

@@ -10,6 +10,10 @@ const key = z.string().regex(/^[a-z][a-z0-9_]{0,39}$/, 'Unknown question key')
  * is the weight column the server loads for the engine.
  */
 export const SAMPLE_LIST_WEIGHTS = 'sample-lists'
+
+/** The longest a GET of a run still fitting waits for its end (`?wait=` in ms) before answering as it stands. */
+export const RUN_WAIT_MAX_MS = 20_000
+export const runQuerySchema = z.object({ wait: z.coerce.number().int().min(0).max(RUN_WAIT_MAX_MS).optional() })
 const termKey = z.string().regex(/^[a-z][a-z0-9_]{0,39}(\.[a-z0-9_]{1,40})?$/, 'Unknown question key')
 
 export const covariateChoiceSchema = z.object({
