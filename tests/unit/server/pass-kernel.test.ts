@@ -209,13 +209,13 @@ describe('the pass kernel (WebAssembly)', () => {
         const value = evaluateRangeWithKernel(d, link, b, 0, n, kernelRunner(layout, 1), g, H)
         // Leftovers for the next fit: every byte of the memory, X's padding and the scratch included.
         new Float64Array(layout.memory.buffer).fill(Number.NaN)
-        return { value, g: Array.from(g), H: Array.from(H), buffer: d.X.buffer }
+        return { value, g: Array.from(g), H: Array.from(H), memory: layout.memory }
       }
       const first = sums()
       cache.recycle()
       const second = sums()
-      expect(second.buffer).toBe(first.buffer)
-      expect({ ...second, buffer: null }).toEqual({ ...first, buffer: null })
+      expect(second.memory).toBe(first.memory)
+      expect({ ...second, memory: null }).toEqual({ ...first, memory: null })
       expect(first.g.every(Number.isFinite)).toBe(true)
     })
   }
