@@ -16,6 +16,7 @@ import { QueryTypes } from 'sequelize'
 import { rootSql } from '../scripts/lib/mariadb.mjs'
 import { startStack } from '../scripts/lib/stack.mjs'
 import { DATA, findExecutable } from '../scripts/lib/system.mjs'
+import { RUN_WAIT_MAX_MS } from '../shared/utils/modelling/request'
 import { loadAverage, mergeResults, printTable, round, type BenchEntry } from './lib/results-file'
 
 const SIZES = (process.env.FURROWCAST_BENCH_APP_FIT_SIZES ?? '1e5,1e6').split(',').map(Number)
@@ -167,9 +168,9 @@ async function main() {
       let status = 'running'
       let asks = 0
       let body: { status: string, durationMs: number | null, results: { rows: { used: number }, coefficients: Array<{ estimate: number }>, timings: { designMs: number, fitMs: number, inferenceMs: number, marginsMs: number, predictionsMs: number, totalMs: number } } | null, error: unknown } | null = null
-      // As the run's page asks: answered once the fit has ended (`?wait=`, at most 20 s a request).
+      // As the run's page asks: answered once the fit has ended (`?wait=`, at most RUN_WAIT_MAX_MS a request).
       while (status === 'running') {
-        const answer = await coordinator.get<typeof body>(`/api/models/${posted.body.id}?wait=20000`)
+        const answer = await coordinator.get<typeof body>(`/api/models/${posted.body.id}?wait=${RUN_WAIT_MAX_MS}`)
         asks++
         body = answer.body
         status = body!.status

@@ -19,9 +19,8 @@ export function announceRunEnd(id: number): void {
 /** Resolves when this process announces the run's end, or after `ms`, whichever comes first. */
 export function runEndOrTimeout(id: number, ms: number): Promise<void> {
   return new Promise((resolve) => {
-    let waiting = waiters.get(id)
-    if (!waiting) waiters.set(id, waiting = new Set())
-    const set = waiting
+    const set = waiters.get(id) ?? new Set<() => void>()
+    waiters.set(id, set)
     const wake = () => {
       clearTimeout(timer)
       set.delete(wake)
