@@ -54,3 +54,19 @@ export function clockOf(iso: string | null | undefined): string {
   if (!iso) return ''
   return `${new Date(iso).toLocaleTimeString('en-GB', { hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: 'UTC' })} UTC`
 }
+
+// As the rest of the app writes them through Intl's en-GB (which writes "Sept").
+const MONTHS = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sept', 'Oct', 'Nov', 'Dec']
+
+/**
+ * A moment in the tablet's own time zone as "2 Dec 2026, 14:05", for the field app's screens. Built from the date's
+ * own getters rather than Intl: a page's first Intl date formatting sets up the browser's locale and time-zone data,
+ * 30–60 ms measured in Chromium here, and on the tablet that landed in the enumerator's first tick of the consent box.
+ */
+export function localMomentOf(iso: string | null | undefined): string {
+  if (!iso) return '—'
+  const at = new Date(iso)
+  if (Number.isNaN(at.getTime())) return '—'
+  const two = (n: number) => String(n).padStart(2, '0')
+  return `${at.getDate()} ${MONTHS[at.getMonth()]} ${at.getFullYear()}, ${two(at.getHours())}:${two(at.getMinutes())}`
+}
