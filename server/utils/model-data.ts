@@ -11,6 +11,7 @@ import { database } from '../db/connection'
 import { QuestionnaireVersion, Round } from '../db/models'
 import type { ExcludedVisits } from '../db/models/model-run'
 import { type ScannedValue, ScanMemo, parseJsonNumber, scanAnswers } from './answer-scan'
+import { type PoolManager, eachRow } from './row-stream'
 import { FARM_COLUMN, ROUND_COLUMN, type PanelRead } from './panel-data'
 import { LATEST_OF_FARM_IN_ROUND } from './panel-export'
 
@@ -129,16 +130,6 @@ class CodedBuilder {
   }
 }
 
-interface RawConnection {
-  query: (sql: string, values?: unknown[]) => Promise<unknown>
-  queryStream: (options: { sql: string, rowsAsArray: boolean, typeCast?: null, autoJsonMap?: boolean }, values?: unknown[]) => AsyncIterable<unknown[]>
-}
-
-interface PoolManager {
-  getConnection: (options: { type: 'read' | 'write' }) => Promise<RawConnection>
-  releaseConnection: (connection: RawConnection) => Promise<void>
-}
-
 /**
  * Reads the round's accepted visits for one specification in ONE streaming query, taking only the answers the model
  * uses out of each visit's stored JSON (one scan per row, `answer-scan.ts`), straight into typed columns: no model
@@ -235,7 +226,7 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
     // typeCast off for this query: the pool's per-value hook (Sequelize's type parsers) cost more than the decoding
     // itself, and these columns need none (numbers and strings as the driver reads them). autoJsonMap off: the
     // answers arrive as text for the scan, not as an object per visit built by JSON.parse.
-    for await (const row of conn.queryStream({ sql, rowsAsArray: true, typeCast: null, autoJsonMap: false }, params)) {
+    await eachRow(conn.queryStream({ sql, rowsAsArray: true, typeCast: null, autoJsonMap: false }, params), (row) => {
       if (n === adopted.length) throw new Error('more accepted visits than counted: the read is not a snapshot')
       const id = row[0] as string
       const code = codeOf.get(Number(row[1]))
@@ -288,7 +279,7 @@ export async function loadRoundColumns(roundId: number, organisationId: number, 
         usedChunk = ''
       }
       n++
-    }
+    })
     hash.update(chunk)
     usedHash.update(usedChunk)
     await conn.query('COMMIT')

@@ -4,6 +4,7 @@ import { type PlotModelRequest, plotTermColumn } from '#shared/utils/schemas/plo
 import type { CodedColumn, CovariateSpec, DataColumns } from '#shared/utils/stats'
 import { database } from '../db/connection'
 import { QuestionnaireVersion, Round } from '../db/models'
+import { type PoolManager, eachRow } from './row-stream'
 
 // The data of a model from a repeated group's rows (plots), read in ONE streaming query: the round's accepted visits
 // LEFT JOINed with JSON_TABLE over their rows (MariaDB 10.6+), only the answers the model uses, straight into typed
@@ -71,15 +72,6 @@ async function resolve(roundId: number, organisationId: number, request: PlotMod
       }))
     : []
   return { round, group, outcome, rowCovariates, farmCovariates, rowTerms }
-}
-
-interface RawConnection {
-  query: (sql: string, values?: unknown[]) => Promise<unknown>
-  queryStream: (options: { sql: string, rowsAsArray: boolean, typeCast?: null }, values?: unknown[]) => AsyncIterable<unknown[]>
-}
-interface PoolManager {
-  getConnection: (options: { type: 'read' | 'write' }) => Promise<RawConnection>
-  releaseConnection: (connection: RawConnection) => Promise<void>
 }
 
 /** A column being filled: numbers (NaN = missing) or the codes of a choice's levels (-1 = missing). */
@@ -189,7 +181,7 @@ export async function loadPlotModelData(organisationId: number, request: PlotMod
   }
   try {
     await conn.query('START TRANSACTION WITH CONSISTENT SNAPSHOT, READ ONLY')
-    for await (const row of conn.queryStream({ sql, rowsAsArray: true, typeCast: null }, params)) {
+    await eachRow(conn.queryStream({ sql, rowsAsArray: true, typeCast: null }, params), (row) => {
       const id = String(row[0])
       const hasRow = row[at.rn] !== null
       if (!current || current.id !== id) {
@@ -198,10 +190,10 @@ export async function loadPlotModelData(organisationId: number, request: PlotMod
         if (!hasRow) counts.farmsWithoutRows++
         current = { id, row, rows: [] }
       }
-      if (!hasRow) continue
+      if (!hasRow) return
       if (request.level === 'farm') {
         current.rows.push(row)
-        continue
+        return
       }
       counts.rows++
       let complete = y.push(text(row[rowIndex.get(outcome!.key)!]))
@@ -220,7 +212,7 @@ export async function loadPlotModelData(organisationId: number, request: PlotMod
         }
       })
       if (complete) counts.kept++
-    }
+    })
     if (request.level === 'farm') flushFarm()
     await conn.query('COMMIT')
   }
