@@ -79,8 +79,11 @@ function valueOf(text: string, start: number, end: number): ScannedValue {
   }
   if (c === OPEN_BRACKET) return JSON.parse(text.slice(start, end)) as unknown[]
   if (c === OPEN_BRACE) return null
-  const literal = text.slice(start, end)
-  return literal === 'null' ? null : literal
+  // Valid JSON: a value opening with n, t or f is null, true or false (no text cut out for them).
+  if (c === 110) return null
+  if (c === 116) return 'true'
+  if (c === 102) return 'false'
+  return text.slice(start, end)
 }
 
 /**
@@ -90,6 +93,8 @@ function valueOf(text: string, start: number, end: number): ScannedValue {
  */
 export class ScanMemo {
   readonly order: string[] = []
+  /** The wanted slot of the key at each position of `order` (-1: not wanted), so a recognised key is not looked up. */
+  readonly slots: number[] = []
   readonly starts: Int32Array
   constructor(wanted: number) {
     this.starts = new Int32Array(wanted)
@@ -116,20 +121,24 @@ export function scanAnswers(text: string | null, wanted: ReadonlyMap<string, num
     if (c === CLOSE_BRACE || p >= text.length) return
     // The key the last row had here, if this row has it too (its closing quote right after it).
     const guess = memo?.order[index]
-    let key: string
+    let slot: number | undefined
     if (guess !== undefined && text.charCodeAt(p + 1 + guess.length) === QUOTE && text.startsWith(guess, p + 1)) {
-      key = guess
+      const known = memo!.slots[index]!
+      slot = known < 0 ? undefined : known
       p += guess.length + 2
     }
     else {
       const keyEnd = skipString(text, p)
-      key = text.slice(p + 1, keyEnd - 1)
-      if (memo) memo.order[index] = key
+      const key = text.slice(p + 1, keyEnd - 1)
+      // Question keys are plain [a-z0-9_]; a key with an escape is never one of them.
+      slot = key.includes('\\') ? undefined : wanted.get(key)
+      if (memo) {
+        memo.order[index] = key
+        memo.slots[index] = slot ?? -1
+      }
       p = keyEnd
     }
     index++
-    // Question keys are plain [a-z0-9_]; a key with an escape is never one of them.
-    const slot = key.includes('\\') ? undefined : wanted.get(key)
     while (isSpace(text.charCodeAt(p))) p++
     if (text.charCodeAt(p) !== COLON) throw new Error('malformed stored answers')
     p++
