@@ -62,11 +62,12 @@ const MONTHS = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sept', 
  * A moment in the tablet's own time zone as "2 Dec 2026, 14:05", for the field app's screens. Built from the date's
  * own getters rather than Intl: a page's first Intl date formatting sets up the browser's locale and time-zone data,
  * 30–60 ms measured in Chromium here, and on the tablet that landed in the enumerator's first tick of the consent box.
+ * With `seconds` ("…, 14:05:09") where a person checks that something just happened again (the last sync).
  */
-export function localMomentOf(iso: string | null | undefined): string {
+export function localMomentOf(iso: string | null | undefined, { seconds = false } = {}): string {
   if (!iso) return '—'
   const at = new Date(iso)
   if (Number.isNaN(at.getTime())) return '—'
   const two = (n: number) => String(n).padStart(2, '0')
-  return `${at.getDate()} ${MONTHS[at.getMonth()]} ${at.getFullYear()}, ${two(at.getHours())}:${two(at.getMinutes())}`
+  return `${at.getDate()} ${MONTHS[at.getMonth()]} ${at.getFullYear()}, ${two(at.getHours())}:${two(at.getMinutes())}${seconds ? `:${two(at.getSeconds())}` : ''}`
 }
