@@ -11,8 +11,8 @@ const ROWS = PARALLEL_MIN_ROWS + 10_000
 /**
  * Warm-up fits run one after another. Why several: V8 compiles a function called once per fit (the covariance, the
  * ROC, the village means…) to optimised code only after a few calls. Measured on the 2-core machine, a first real fit
- * at 10^5 rows and ten covariates: engine 234–242 ms after one warm-up fit, 152–158 ms after five (a fully warm
- * worker: 124–135 ms). Five cost the worker 0.4–0.5 s once, at start or after a large fit ended it.
+ * at 10^5 rows and ten covariates: engine 234–242 ms after one warm-up fit, 189–217 ms after these five (a fully warm
+ * worker: 86–135 ms). Five cost the worker 0.4–0.5 s once, at start or after a large fit ended it.
  */
 export const WARM_UP_FITS = 5
 const COVARIATES = 4
